@@ -1,0 +1,44 @@
+#pragma once
+// CONTRACT. Where and when larvae start: one ReleasePoint per simulated
+// particle, for one spawning event. Deterministic: positions come from the
+// counter-based generator keyed by (seed, event, source, particle).
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "cullcast/reefs/reef_set.hpp"
+#include "cullcast/study/study.hpp"
+
+namespace cullcast::reefs {
+
+enum class SourceKind : std::uint8_t { reef, aggregation };
+
+// Something that releases larvae: a whole reef, or an observed aggregation.
+struct ReleaseSource {
+  std::string id;            // reef id, or aggregation id (e.g. "AGG-3")
+  SourceKind kind = SourceKind::reef;
+  int reef_index = -1;       // reef it lies on (aggregations: attached reef, or -1)
+  std::vector<LonLat> points;  // aggregations: the detections' positions
+  double adults = 0;         // estimated adults (density x area, or counts)
+};
+
+struct ReleasePoint {
+  double lon = 0, lat = 0;     // degrees
+  double depth_m = 0;          // metres below the surface
+  double release_offset_s = 0; // seconds after the event start
+  std::uint32_t source = 0;    // index into the sources vector
+  std::uint32_t particle = 0;  // index within its source (for random streams)
+  double weight = 1;           // larvae represented (1 until scaled by larval output)
+};
+
+// Sources for a study: every reef, plus every aggregation when the scenario has them.
+std::vector<ReleaseSource> release_sources(const ReefSet& reefs, const study::Study& study);
+
+// Release points for one event, sources in order, particles in order within
+// each source (spatially grouped, which keeps the drift loop cache-friendly).
+std::vector<ReleasePoint> plan_release(const ReefSet& reefs,
+                                       const std::vector<ReleaseSource>& sources,
+                                       const study::SpawningEvent& event, std::uint32_t event_index,
+                                       const study::ReefSettings& settings, std::uint64_t seed);
+
+}  // namespace cullcast::reefs

@@ -1,0 +1,96 @@
+#pragma once
+// The validated settings of one study, one struct per stage. Produced by
+// load_study() from a scenario file (TOML); read by every stage; never
+// written by them. Units are SI unless the field name says otherwise.
+#include <cstdint>
+#include <filesystem>
+#include <limits>
+#include <string>
+#include <vector>
+
+#include "cullcast/base/civil_time.hpp"
+
+namespace cullcast::study {
+
+struct StudySettings {
+  std::string name;            // free text shown in outputs
+  std::string description;     // free text shown in the briefing
+  std::uint64_t seed = 1;      // every random number derives from this
+};
+
+struct CurrentsSettings {
+  std::vector<std::string> patterns;          // as written in the scenario (globs allowed)
+  std::vector<std::filesystem::path> files;   // expanded, absolute, sorted by name, unique
+  // Variable names; empty = discover by CF standard_name (CF-1.13 §3.3).
+  std::string u_variable;            // eastward_sea_water_velocity
+  std::string v_variable;            // northward_sea_water_velocity
+  std::string w_variable;            // upward_sea_water_velocity (optional)
+  std::string temperature_variable;  // sea_water_temperature (optional)
+  std::string chlorophyll_variable;  // mass_concentration_of_chlorophyll_a_in_sea_water (optional)
+  std::string calendar;              // overrides a missing/odd time:calendar; empty = from file
+  int frames_ahead = 1;              // frames read ahead of the simulation clock
+};
+
+struct ReefSettings {
+  std::filesystem::path layer;        // any GDAL vector source
+  std::string layer_name;             // layer inside the source; empty = first layer
+  std::string id_field = "id";        // unique reef id
+  std::string name_field;             // optional display name
+  std::string priority_field;         // optional protection weight 0..1
+  bool repair_geometry = false;       // repair invalid polygons instead of refusing them
+  double settle_buffer_m = 0.0;       // larvae within this distance of a reef may settle on it
+  std::filesystem::path surveys;      // optional survey CSV
+  std::string missing_survey = "zero";  // zero | regional_mean | refuse
+  std::filesystem::path aggregations; // optional CSV of point detections
+  double cluster_distance_m = 200.0;  // detections closer than this form one aggregation
+  double attach_tolerance_m = 1000.0; // an aggregation off-reef attaches to the nearest reef within this
+  std::string placement = "uniform";  // uniform | lattice: where larvae start inside a reef
+};
+
+struct SpawningEvent {
+  std::string label;          // e.g. "2026 December night 1"; default "event N"
+  CivilTime start;            // UTC, interpreted in the currents' calendar
+  double hours = 0.0;         // release spread evenly over this window; 0 = all at start
+  int larvae_per_reef = 1000; // simulated particles per source
+  double depth_m = 0.0;       // release depth below the surface, metres (positive down)
+};
+
+struct LarvaeSettings {
+  double precompetent_days = 14.0;  // no settlement before this age
+  double competent_days = 29.0;     // settlement window after that; older larvae die
+  std::string mortality = "constant";  // constant | weibull
+  double mortality_per_day = 0.1;   // constant hazard, per day
+  double weibull_shape = 1.0;       // Weibull hazard shape k (dimensionless)
+  double weibull_scale_days = 10.0; // Weibull scale lambda, days
+  std::string mortality_as = "weight";  // weight (decay) | random (death draws)
+  double settle_rate_per_day = std::numeric_limits<double>::infinity();  // inf = settle on first reef
+};
+
+struct MotionSettings {
+  double dt_minutes = 10.0;      // integration step
+  double kh_m2_s = 0.0;          // horizontal eddy diffusivity; 0 = none
+  std::string scheme = "rk4";    // rk4 | rk2 | euler
+  std::string earth = "sphere";  // sphere | wgs84 (metres <-> degrees)
+  double earth_radius_m = 6371000.0;  // sphere radius when earth = "sphere"
+  std::string land = "hold";     // hold | reflect: what a step that would end on land does
+};
+
+struct OutputSettings {
+  std::filesystem::path dir = "out";  // resolved against the scenario's folder
+  bool settlement_csv = false;        // also write settlement records as CSV
+};
+
+struct Study {
+  std::filesystem::path scenario_file;  // absolute
+  std::filesystem::path base_dir;       // folder that relative paths resolve against
+  StudySettings study;
+  CurrentsSettings currents;
+  ReefSettings reefs;
+  std::vector<SpawningEvent> spawning;
+  LarvaeSettings larvae;
+  MotionSettings motion;
+  OutputSettings outputs;
+  std::vector<std::string> overrides;   // --set items applied, for provenance
+};
+
+}  // namespace cullcast::study

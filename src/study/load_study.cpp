@@ -1,0 +1,313 @@
+#include "cullcast/study/load_study.hpp"
+
+#include <glob.h>
+
+#include <algorithm>
+#include <cmath>
+#include <fstream>
+#include <set>
+#include <sstream>
+
+#include "cullcast/base/error.hpp"
+#include "cullcast/base/suggest.hpp"
+#include "section_reader.hpp"
+#include "set_override.hpp"
+
+namespace cullcast::study {
+namespace fs = std::filesystem;
+namespace {
+
+const std::vector<std::string> kSections = {"study",  "currents", "reefs",  "spawning",
+                                            "larvae", "motion",   "outputs"};
+
+struct Context {
+  std::string file;  // as shown in messages
+  fs::path base_dir;
+  bool check_files = true;
+};
+
+const toml::table* section_table(const toml::table& root, const std::string& name,
+                                 const Context& ctx) {
+  const toml::node* n = root.get(name);
+  if (n == nullptr) return nullptr;
+  if (!n->is_table()) {
+    throw InputError(location_text(ctx.file, n->source()) + ": [" + name +
+                     "] expected a table, found " + describe_node(*n));
+  }
+  return n->as_table();
+}
+
+fs::path resolve(const Context& ctx, const std::string& path) {
+  fs::path p(path);
+  if (p.is_relative()) p = ctx.base_dir / p;
+  return p.lexically_normal();
+}
+
+fs::path existing_file(SectionReader& r, const Context& ctx, const std::string& key,
+                       const std::string& value) {
+  fs::path p = resolve(ctx, value);
+  std::error_code error;
+  if (ctx.check_files && !fs::exists(p, error)) r.fail(key, "file not found: " + p.string());
+  return p;
+}
+
+std::vector<fs::path> expand_patterns(SectionReader& r, const Context& ctx,
+                                      const std::vector<std::string>& patterns) {
+  std::set<fs::path> found;
+  for (const auto& pattern : patterns) {
+    const fs::path full = resolve(ctx, pattern);
+    glob_t matches{};
+    const int status = ::glob(full.c_str(), 0, nullptr, &matches);
+    if (status == 0) {
+      for (size_t i = 0; i < matches.gl_pathc; ++i) found.insert(fs::path(matches.gl_pathv[i]));
+    }
+    globfree(&matches);
+    if (status != 0) {
+      r.fail("files", "no file matches \"" + pattern + "\" (looked for " + full.string() + ")");
+    }
+  }
+  return {found.begin(), found.end()};
+}
+
+CivilTime read_time(const toml::table& table, const std::string& key, SectionReader& r) {
+  const toml::node* n = table.get(key);
+  if (n != nullptr && n->is_date_time()) {
+    const toml::date_time dt = n->as_date_time()->get();
+    std::ostringstream text;
+    text << dt;
+    try {
+      return parse_iso8601(text.str());
+    } catch (const std::invalid_argument& e) {
+      r.fail(key, e.what());
+    }
+  }
+  const std::string text = r.required_text(key);
+  try {
+    return parse_iso8601(text);
+  } catch (const std::invalid_argument& e) {
+    r.fail(key, e.what());
+  }
+}
+
+StudySettings read_study(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "study", ctx.file, where);
+  StudySettings s;
+  s.name = r.text("name", "unnamed study");
+  s.description = r.text("description", "");
+  const std::int64_t seed = r.integer("seed", 1);
+  if (seed < 0) r.fail("seed", "must be a whole number >= 0, found " + std::to_string(seed));
+  s.seed = static_cast<std::uint64_t>(seed);
+  r.finish();
+  return s;
+}
+
+CurrentsSettings read_currents(const toml::table* t, const Context& ctx, toml::source_region where,
+                               bool expand) {
+  SectionReader r(t, "currents", ctx.file, where);
+  CurrentsSettings s;
+  s.patterns = r.text_list("files", true);
+  s.u_variable = r.text("u_variable", "");
+  s.v_variable = r.text("v_variable", "");
+  s.w_variable = r.text("w_variable", "");
+  s.temperature_variable = r.text("temperature_variable", "");
+  s.chlorophyll_variable = r.text("chlorophyll_variable", "");
+  s.calendar = r.text("calendar", "");
+  if (!s.calendar.empty()) {
+    r.require_one_of("calendar", s.calendar,
+                     {"standard", "gregorian", "proleptic_gregorian", "julian", "noleap",
+                      "365_day", "all_leap", "366_day", "360_day"});
+  }
+  const std::int64_t ahead = r.integer("frames_ahead", 1);
+  r.require_range("frames_ahead", static_cast<double>(ahead), 0, 16, "frames");
+  s.frames_ahead = static_cast<int>(ahead);
+  if (expand) s.files = expand_patterns(r, ctx, s.patterns);
+  r.finish();
+  return s;
+}
+
+ReefSettings read_reefs(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "reefs", ctx.file, where);
+  ReefSettings s;
+  s.layer = existing_file(r, ctx, "layer", r.required_text("layer"));
+  s.layer_name = r.text("layer_name", "");
+  s.id_field = r.text("id", "id");
+  if (s.id_field.empty()) r.fail("id", "must name the attribute that holds the reef id");
+  s.name_field = r.text("name", "");
+  s.priority_field = r.text("priority", "");
+  s.repair_geometry = r.boolean("repair_geometry", false);
+  s.settle_buffer_m = r.number("settle_buffer_m", 0.0);
+  r.require_range("settle_buffer_m", s.settle_buffer_m, 0, 50000, "metres");
+  const std::string surveys = r.text("surveys", "");
+  if (!surveys.empty()) s.surveys = existing_file(r, ctx, "surveys", surveys);
+  s.missing_survey = r.text("missing_survey", "zero");
+  r.require_one_of("missing_survey", s.missing_survey, {"zero", "regional_mean", "refuse"});
+  const std::string aggregations = r.text("aggregations", "");
+  if (!aggregations.empty()) s.aggregations = existing_file(r, ctx, "aggregations", aggregations);
+  s.cluster_distance_m = r.number("cluster_distance_m", 200.0);
+  r.require_positive("cluster_distance_m", s.cluster_distance_m, "metres");
+  s.attach_tolerance_m = r.number("attach_tolerance_m", 1000.0);
+  r.require_at_least("attach_tolerance_m", s.attach_tolerance_m, 0, "metres");
+  s.placement = r.text("placement", "uniform");
+  r.require_one_of("placement", s.placement, {"uniform", "lattice"});
+  r.finish();
+  return s;
+}
+
+std::vector<SpawningEvent> read_spawning(const toml::node* n, const Context& ctx,
+                                         toml::source_region root_where) {
+  if (n == nullptr) {
+    throw InputError(location_text(ctx.file, root_where) +
+                     ": missing [[spawning]]: at least one spawning event is required "
+                     "(start = \"YYYY-MM-DDTHH:MM:SSZ\")");
+  }
+  const toml::array* events = n->as_array();
+  if (events == nullptr || events->empty() || !events->is_array_of_tables()) {
+    throw InputError(location_text(ctx.file, n->source()) +
+                     ": [[spawning]] expected one or more tables ([[spawning]] blocks), found " +
+                     describe_node(*n));
+  }
+  std::vector<SpawningEvent> out;
+  for (size_t i = 0; i < events->size(); ++i) {
+    const toml::table& t = *events->get(i)->as_table();
+    const std::string section = "spawning " + std::to_string(i + 1);
+    SectionReader r(&t, section, ctx.file, t.source());
+    SpawningEvent e;
+    e.label = r.text("label", "event " + std::to_string(i + 1));
+    e.start = read_time(t, "start", r);
+    e.hours = r.number("hours", 0.0);
+    r.require_range("hours", e.hours, 0, 24 * 31, "hours");
+    const std::int64_t larvae = r.integer("larvae_per_reef", 1000);
+    r.require_range("larvae_per_reef", static_cast<double>(larvae), 1, 1e8, "particles per source");
+    e.larvae_per_reef = static_cast<int>(larvae);
+    e.depth_m = r.number("depth_m", 0.0);
+    r.require_range("depth_m", e.depth_m, 0, 11000, "metres below the surface");
+    r.finish();
+    out.push_back(e);
+  }
+  return out;
+}
+
+LarvaeSettings read_larvae(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "larvae", ctx.file, where);
+  LarvaeSettings s;
+  s.precompetent_days = r.number("precompetent_days", s.precompetent_days);
+  r.require_range("precompetent_days", s.precompetent_days, 0, 365, "days");
+  s.competent_days = r.number("competent_days", s.competent_days);
+  r.require_positive("competent_days", s.competent_days, "days");
+  r.require_range("competent_days", s.competent_days, 0, 365, "days");
+  s.mortality = r.text("mortality", s.mortality);
+  r.require_one_of("mortality", s.mortality, {"constant", "weibull"});
+  s.mortality_per_day = r.number("mortality_per_day", s.mortality_per_day);
+  r.require_range("mortality_per_day", s.mortality_per_day, 0, 100, "per day");
+  s.weibull_shape = r.number("weibull_shape", s.weibull_shape);
+  r.require_positive("weibull_shape", s.weibull_shape, "dimensionless");
+  s.weibull_scale_days = r.number("weibull_scale_days", s.weibull_scale_days);
+  r.require_positive("weibull_scale_days", s.weibull_scale_days, "days");
+  s.mortality_as = r.text("mortality_as", s.mortality_as);
+  r.require_one_of("mortality_as", s.mortality_as, {"weight", "random"});
+  s.settle_rate_per_day = r.number("settle_rate_per_day", s.settle_rate_per_day);
+  if (!(s.settle_rate_per_day > 0)) {
+    r.fail("settle_rate_per_day", "must be > 0 per day (inf = settle on the first reef reached)");
+  }
+  r.finish();
+  return s;
+}
+
+MotionSettings read_motion(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "motion", ctx.file, where);
+  MotionSettings s;
+  s.dt_minutes = r.number("dt_minutes", s.dt_minutes);
+  r.require_positive("dt_minutes", s.dt_minutes, "minutes");
+  r.require_range("dt_minutes", s.dt_minutes, 0, 24 * 60, "minutes");
+  s.kh_m2_s = r.number("kh_m2_s", s.kh_m2_s);
+  r.require_range("kh_m2_s", s.kh_m2_s, 0, 1e5, "m2 s-1");
+  s.scheme = r.text("scheme", s.scheme);
+  r.require_one_of("scheme", s.scheme, {"rk4", "rk2", "euler"});
+  s.earth = r.text("earth", s.earth);
+  r.require_one_of("earth", s.earth, {"sphere", "wgs84"});
+  s.earth_radius_m = r.number("earth_radius_m", s.earth_radius_m);
+  r.require_range("earth_radius_m", s.earth_radius_m, 1e6, 1e8, "metres");
+  s.land = r.text("land", s.land);
+  r.require_one_of("land", s.land, {"hold", "reflect"});
+  r.finish();
+  return s;
+}
+
+OutputSettings read_outputs(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "outputs", ctx.file, where);
+  OutputSettings s;
+  const std::string dir = r.text("dir", "out");
+  if (dir.empty()) r.fail("dir", "must name a folder");
+  s.dir = resolve(ctx, dir);
+  s.settlement_csv = r.boolean("settlement_csv", false);
+  r.finish();
+  return s;
+}
+
+void check_top_level(const toml::table& root, const Context& ctx) {
+  for (auto&& [key, value] : root) {
+    const std::string name(key.str());
+    if (std::find(kSections.begin(), kSections.end(), name) != kSections.end()) continue;
+    const std::string hint = closest_match(name, kSections);
+    throw InputError(location_text(ctx.file, value.source()) + ": unknown section [" + name + "]" +
+                     (hint.empty() ? "" : " (did you mean [" + hint + "]?)") +
+                     "; known sections: study, currents, reefs, spawning, larvae, motion, outputs");
+  }
+}
+
+}  // namespace
+
+Study load_study_text(const std::string& text, const fs::path& source_name,
+                      const LoadOptions& options) {
+  Context ctx;
+  ctx.file = source_name.string();
+  ctx.base_dir = fs::absolute(source_name).parent_path();
+  ctx.check_files = options.check_files;
+
+  toml::table root;
+  try {
+    root = toml::parse(text, ctx.file);
+  } catch (const toml::parse_error& e) {
+    throw InputError(location_text(ctx.file, e.source()) + ": not valid TOML: " +
+                     std::string(e.description()));
+  }
+  for (const auto& item : options.overrides) apply_override(root, item);
+  check_top_level(root, ctx);
+
+  const toml::source_region where = root.source();
+  Study s;
+  s.scenario_file = fs::absolute(source_name);
+  s.base_dir = ctx.base_dir;
+  s.overrides = options.overrides;
+  s.study = read_study(section_table(root, "study", ctx), ctx, where);
+  const toml::table* currents = section_table(root, "currents", ctx);
+  if (currents == nullptr) {
+    throw InputError(location_text(ctx.file, where) +
+                     ": missing section [currents] (files = [\"currents/*.nc\"])");
+  }
+  s.currents = read_currents(currents, ctx, currents->source(), options.check_files);
+  const toml::table* reefs = section_table(root, "reefs", ctx);
+  if (reefs == nullptr) {
+    throw InputError(location_text(ctx.file, where) +
+                     ": missing section [reefs] (layer = \"reefs.geojson\")");
+  }
+  s.reefs = read_reefs(reefs, ctx, reefs->source());
+  s.spawning = read_spawning(root.get("spawning"), ctx, where);
+  s.larvae = read_larvae(section_table(root, "larvae", ctx), ctx, where);
+  s.motion = read_motion(section_table(root, "motion", ctx), ctx, where);
+  s.outputs = read_outputs(section_table(root, "outputs", ctx), ctx, where);
+  return s;
+}
+
+Study load_study(const fs::path& scenario_file, const LoadOptions& options) {
+  std::ifstream in(scenario_file, std::ios::binary);
+  if (!in) {
+    throw InputError("cannot open scenario file " + scenario_file.string() +
+                     ": no such file or not readable");
+  }
+  std::ostringstream text;
+  text << in.rdbuf();
+  return load_study_text(text.str(), scenario_file, options);
+}
+
+}  // namespace cullcast::study

@@ -1,0 +1,70 @@
+#!/usr/bin/env bash
+# One entry point for a fresh Debian 12 machine.
+#   bash tools/setup.sh demo   install what is missing, build, run the demo study
+#   bash tools/setup.sh test   install what is missing, build, run every test
+#                              (Release, then the fast tests under ASan+UBSan)
+#   bash tools/setup.sh deps   only install the Debian packages
+set -euo pipefail
+
+root="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
+build_dir="${CULLCAST_BUILD_DIR:-$root/build}"
+sanitize_dir="${CULLCAST_SANITIZE_DIR:-$root/build-sanitize}"
+jobs="$(nproc)"
+
+packages=(
+  build-essential cmake ninja-build pkg-config
+  libnetcdf-c++4-dev libnetcdf-dev netcdf-bin
+  libeigen3-dev libgdal-dev gdal-bin
+  libboost-graph-dev libboost-dev
+  libcli11-dev catch2 libtomlplusplus-dev libgeographiclib-dev
+  python3 python3-numpy python3-scipy python3-netcdf4
+)
+
+install_missing() {
+  local missing=()
+  for p in "${packages[@]}"; do
+    if ! dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed"; then
+      missing+=("$p")
+    fi
+  done
+  if ((${#missing[@]})); then
+    echo "setup: installing ${missing[*]}"
+    local sudo=""
+    if [[ $(id -u) -ne 0 ]]; then sudo="sudo"; fi
+    $sudo apt-get update -qq
+    DEBIAN_FRONTEND=noninteractive $sudo apt-get install -y -qq --no-install-recommends "${missing[@]}"
+  else
+    echo "setup: all Debian packages present"
+  fi
+}
+
+configure_and_build() {  # dir, extra cmake args...
+  local dir="$1"; shift
+  cmake -S "$root" -B "$dir" -G Ninja -DCMAKE_BUILD_TYPE=Release "$@" >/dev/null
+  cmake --build "$dir" -j "$jobs"
+}
+
+case "${1:-}" in
+  deps)
+    install_missing
+    ;;
+  demo)
+    install_missing
+    configure_and_build "$build_dir"
+    "$build_dir/cullcast" run "$root/scenarios/lantern-reach.toml"
+    ;;
+  test)
+    install_missing
+    configure_and_build "$build_dir"
+    (cd "$build_dir" && ctest --output-on-failure -j "$jobs" --timeout 900)
+    if [[ "${CULLCAST_SKIP_SANITIZE:-0}" != 1 ]]; then
+      echo "setup: fast tests again under AddressSanitizer + UndefinedBehaviorSanitizer"
+      configure_and_build "$sanitize_dir" -DCULLCAST_SANITIZE=ON -DCMAKE_BUILD_TYPE=RelWithDebInfo
+      (cd "$sanitize_dir" && ASAN_OPTIONS=detect_leaks=0 ctest --output-on-failure -j "$jobs" -L fast --timeout 900)
+    fi
+    ;;
+  *)
+    echo "usage: bash tools/setup.sh demo|test|deps" >&2
+    exit 2
+    ;;
+esac
