@@ -6,6 +6,7 @@
 
 #include "cli_context.hpp"
 #include "cullcast/base/error.hpp"
+#include "cullcast/base/suggest.hpp"
 
 namespace cullcast::cli {
 
@@ -69,6 +70,17 @@ int run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
     out << e.what() << "\n";
     return code(ExitCode::ok);
   } catch (const CLI::ParseError& e) {
+    const std::vector<std::string> left = app.remaining();
+    if (app.get_subcommands().empty() && !left.empty() && !left.front().empty() &&
+        left.front()[0] != '-') {
+      std::vector<std::string> names;
+      for (const CLI::App* sub : app.get_subcommands({})) names.push_back(sub->get_name());
+      const std::string hint = closest_match(left.front(), names);
+      err << "cullcast: unknown command '" << left.front() << "'"
+          << (hint.empty() ? "" : " (did you mean '" + hint + "'?)")
+          << "\nRun 'cullcast --help' for usage.\n";
+      return code(ExitCode::usage);
+    }
     err << "cullcast: " << e.what() << "\nRun 'cullcast --help' for usage.\n";
     return code(ExitCode::usage);
   }

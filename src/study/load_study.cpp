@@ -72,6 +72,7 @@ std::vector<fs::path> expand_patterns(SectionReader& r, const Context& ctx,
 CivilTime read_time(const toml::table& table, const std::string& key, SectionReader& r) {
   const toml::node* n = table.get(key);
   if (n != nullptr && n->is_date_time()) {
+    r.mark_known(key);
     const toml::date_time dt = n->as_date_time()->get();
     std::ostringstream text;
     text << dt;
@@ -249,7 +250,7 @@ void check_top_level(const toml::table& root, const Context& ctx) {
     const std::string name(key.str());
     if (std::find(kSections.begin(), kSections.end(), name) != kSections.end()) continue;
     const std::string hint = closest_match(name, kSections);
-    throw InputError(location_text(ctx.file, value.source()) + ": unknown section [" + name + "]" +
+    throw InputError(location_text(ctx.file, key.source()) + ": unknown section [" + name + "]" +
                      (hint.empty() ? "" : " (did you mean [" + hint + "]?)") +
                      "; known sections: study, currents, reefs, spawning, larvae, motion, outputs");
   }

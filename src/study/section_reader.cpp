@@ -171,7 +171,7 @@ void SectionReader::finish() const {
     const std::string hint = closest_match(name, known_);
     std::string list;
     for (const auto& k : known_) list += (list.empty() ? "" : ", ") + k;
-    throw InputError(location_text(file_, value.source()) + ": [" + section_ + "] unknown key '" +
+    throw InputError(location_text(file_, key.source()) + ": [" + section_ + "] unknown key '" +
                      name + "'" + (hint.empty() ? "" : " (did you mean '" + hint + "'?)") +
                      "; known keys: " + list);
   }

@@ -24,6 +24,8 @@ class SectionReader {
   std::int64_t integer(const std::string& key, std::int64_t fallback);
   bool boolean(const std::string& key, bool fallback);
   bool has(const std::string& key) const;
+  // Record a key read directly from the table (e.g. a TOML date-time).
+  void mark_known(const std::string& key) { known_.push_back(key); }
 
   // Checks, naming the key and its location.
   void require_positive(const std::string& key, double value, const char* unit);

@@ -1,0 +1,57 @@
+#include <catch2/catch.hpp>
+
+#include <cmath>
+#include <vector>
+
+#include "cullcast/base/random.hpp"
+
+using cullcast::philox4x32_10;
+
+TEST_CASE("Philox4x32-10 known-answer vectors") {
+  // Known-answer vectors of Salmon et al. (2011), "Parallel random numbers: as
+  // easy as 1, 2, 3" (SC11), as distributed with their Random123 library's
+  // kat_vectors file — from memory.
+  auto zero = philox4x32_10({0, 0, 0, 0}, {0, 0});
+  CHECK(zero == cullcast::PhiloxCounter{0x6627e8d5u, 0xe169c58du, 0xbc57ac4cu, 0x9b00dbd8u});
+  auto ones = philox4x32_10({0xffffffffu, 0xffffffffu, 0xffffffffu, 0xffffffffu},
+                            {0xffffffffu, 0xffffffffu});
+  CHECK(ones == cullcast::PhiloxCounter{0x408f276du, 0x41c83b0eu, 0xa20bc7c6u, 0x6d5451fdu});
+  auto pi = philox4x32_10({0x243f6a88u, 0x85a308d3u, 0x13198a2eu, 0x03707344u},
+                          {0xa4093822u, 0x299f31d0u});
+  CHECK(pi == cullcast::PhiloxCounter{0xd16cfe09u, 0x94fdccebu, 0x5001e420u, 0x24126ea1u});
+}
+
+TEST_CASE("normal deviates have mean 0 and variance 1") {
+  cullcast::CounterRandom rng(12345);
+  const int n = 200000;
+  double sum = 0, sum2 = 0, sum4 = 0;
+  for (int i = 0; i < n / 2; ++i) {
+    const auto z = rng.normal2({1, 2, static_cast<std::uint32_t>(i)}, 7, cullcast::Draw::diffusion);
+    for (double v : z) {
+      sum += v;
+      sum2 += v * v;
+      sum4 += v * v * v * v;
+    }
+  }
+  const double mean = sum / n, var = sum2 / n - mean * mean;
+  // Standard errors: mean 1/sqrt(n); variance sqrt(2/n); 5-sigma bounds.
+  CHECK(std::fabs(mean) < 5 / std::sqrt(n));
+  CHECK(std::fabs(var - 1) < 5 * std::sqrt(2.0 / n));
+  CHECK(std::fabs(sum4 / n - 3) < 5 * std::sqrt(96.0 / n));  // kurtosis of N(0,1) is 3
+}
+
+TEST_CASE("streams differ by every key component and repeat exactly") {
+  cullcast::CounterRandom a(1), b(2);
+  const cullcast::StreamId id{3, 4, 5};
+  CHECK(a.words(id, 6, cullcast::Draw::diffusion) == a.words(id, 6, cullcast::Draw::diffusion));
+  CHECK(a.words(id, 6, cullcast::Draw::diffusion) != b.words(id, 6, cullcast::Draw::diffusion));
+  CHECK(a.words(id, 6, cullcast::Draw::diffusion) != a.words(id, 7, cullcast::Draw::diffusion));
+  CHECK(a.words(id, 6, cullcast::Draw::diffusion) != a.words(id, 6, cullcast::Draw::mortality));
+  CHECK(a.words(id, 6, cullcast::Draw::diffusion) !=
+        a.words({3, 4, 6}, 6, cullcast::Draw::diffusion));
+  CHECK(a.words(id, 6, cullcast::Draw::diffusion) !=
+        a.words({4, 4, 5}, 6, cullcast::Draw::diffusion));
+  const auto u = a.uniform2(id, 0, cullcast::Draw::settlement);
+  CHECK(u[0] > 0);
+  CHECK(u[0] < 1);
+}
