@@ -11,6 +11,7 @@
 
 #include "cullcast/base/civil_time.hpp"
 #include "cullcast/currents/calendar.hpp"
+#include "cullcast/currents/flow_sampler.hpp"
 #include "cullcast/study/study.hpp"
 
 namespace cullcast::currents {
@@ -38,6 +39,32 @@ struct GridSummary {
   double mean_spacing_m = 0;    // typical node spacing, metres
   std::vector<double> depths_m; // depth levels, metres positive down (empty for 2-D)
   double land_fraction = 0;     // share of masked nodes on the top level
+};
+
+// A stretch of time without frames, longer than 1.5 typical steps.
+struct TimeGap {
+  double from_s = 0;  // last frame before the gap, model seconds
+  double to_s = 0;    // first frame after the gap, model seconds
+};
+
+// Optional scalar fields sampled like the velocities (bilinear, linear in time)
+// but averaged over wet nodes only, so land does not drag values to 0.
+enum class ScalarKind {
+  temperature,  // sea_water_temperature; sampled in degrees Celsius
+  chlorophyll,  // mass_concentration_of_chlorophyll_a_in_sea_water; sampled in mg m-3 (= ug/L)
+};
+
+// Names of the variables in use (empty when absent).
+struct VariableNames {
+  std::string u, v, w, temperature, chlorophyll, time, depth, lon, lat;
+};
+
+// Statistics of one frame, for hydro-check.
+struct FrameScan {
+  double time_s = 0;            // model seconds
+  double max_speed_m_s = 0;     // over wet nodes, all levels
+  double courant_dt_s = 0;      // largest step with |u|dt/dx + |v|dt/dy <= 1 at every wet node; inf if still
+  std::size_t wet_nodes = 0;
 };
 
 class CurrentField {
@@ -75,10 +102,70 @@ class CurrentField {
   // Bytes held by loaded frames right now (for the memory benchmark).
   std::size_t frame_bytes() const;
 
+  // --- additions beyond the first contract -------------------------------
+  const std::vector<TimeGap>& gaps() const;                 // holes in the time axis
+  const std::vector<double>& frame_times_s() const;         // every frame, sorted, unique
+  const std::vector<std::string>& files() const;            // files in use, in time order
+  const VariableNames& variables() const;
+  // Model seconds <-> ISO 8601 text in the files' calendar.
+  std::string format_time(double t_s) const;
+
+  bool has_scalar(ScalarKind kind) const;
+  // Loads the scalar with the velocities from the next prepare() on.
+  // Throws InputError when the files have no such variable.
+  void enable_scalar(ScalarKind kind);
+  // NaN outside the grid/time span or where every surrounding node is masked.
+  double sample_scalar(ScalarKind kind, double t_s, double lon, double lat, double depth_m) const noexcept;
+
+  // Reads and decodes frame `index` on its own (not cached), for whole-record
+  // scans; `speeds` (optional) receives the speed of every wet node, m/s.
+  FrameScan scan_frame(std::size_t index, std::vector<float>* speeds = nullptr);
+
  private:
   struct Impl;
   CurrentField();
   std::unique_ptr<Impl> impl_;
+  FlowSampler hot_;  // views into impl_'s loaded blocks; rebuilt by prepare()
 };
+
+inline FlowSample CurrentField::sample(double t_s, double lon, double lat, double depth_m) const noexcept {
+  const FlowSampler& s = hot_;
+  FlowSample out;
+  double a = 0;
+  const TimeBlock* blk = s.find_block(t_s, a);
+  CellHit h;
+  if (blk == nullptr || !s.locate(lon, lat, h)) return out;  // outside
+  std::ptrdiff_t k = 0;
+  double fz = 0;
+  s.locate_depth(depth_m, k, fz);
+  const std::ptrdiff_t c = s.channels;
+  const std::ptrdiff_t row = s.nx * c;
+  const float* p = blk->data + (k * s.ny + h.j) * row + h.i * c;
+  const double gx = 1.0 - h.fx, gy = 1.0 - h.fy;
+  const double w00 = gx * gy, w10 = h.fx * gy, w01 = gx * h.fy, w11 = h.fx * h.fy;
+  auto layer = [&](const float* q, double& u, double& v, double& w) noexcept {
+    const float* q1 = q + row;
+    u = w00 * (q[0] + a * q[2]) + w10 * (q[c] + a * q[c + 2]) + w01 * (q1[0] + a * q1[2]) +
+        w11 * (q1[c] + a * q1[c + 2]);
+    v = w00 * (q[1] + a * q[3]) + w10 * (q[c + 1] + a * q[c + 3]) + w01 * (q1[1] + a * q1[3]) +
+        w11 * (q1[c + 1] + a * q1[c + 3]);
+    if (c == 6) {
+      w = w00 * (q[4] + a * q[5]) + w10 * (q[c + 4] + a * q[c + 5]) + w01 * (q1[4] + a * q1[5]) +
+          w11 * (q1[c + 4] + a * q1[c + 5]);
+    } else {
+      w = 0.0;
+    }
+  };
+  layer(p, out.u_m_s, out.v_m_s, out.w_m_s);
+  if (fz > 0.0) {
+    double u2, v2, w2;
+    layer(p + s.ny * row, u2, v2, w2);
+    out.u_m_s += fz * (u2 - out.u_m_s);
+    out.v_m_s += fz * (v2 - out.v_m_s);
+    out.w_m_s += fz * (w2 - out.w_m_s);
+  }
+  out.status = s.nearest_wet(h, k, fz) ? SampleStatus::water : SampleStatus::land;
+  return out;
+}
 
 }  // namespace cullcast::currents
