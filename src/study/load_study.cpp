@@ -229,7 +229,7 @@ MotionSettings read_motion(const toml::table* t, const Context& ctx, toml::sourc
   s.earth_radius_m = r.number("earth_radius_m", s.earth_radius_m);
   r.require_range("earth_radius_m", s.earth_radius_m, 1e6, 1e8, "metres");
   s.land = r.text("land", s.land);
-  r.require_one_of("land", s.land, {"hold", "reflect"});
+  r.require_one_of("land", s.land, {"hold", "strand"});
   r.finish();
   return s;
 }

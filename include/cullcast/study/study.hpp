@@ -72,7 +72,7 @@ struct MotionSettings {
   std::string scheme = "rk4";    // rk4 | rk2 | euler
   std::string earth = "sphere";  // sphere | wgs84 (metres <-> degrees)
   double earth_radius_m = 6371000.0;  // sphere radius when earth = "sphere"
-  std::string land = "hold";     // hold | reflect: what a step that would end on land does
+  std::string land = "hold";     // hold (undo the step) | strand (particle stops): a step ending on land
 };
 
 struct OutputSettings {

@@ -1,0 +1,37 @@
+#pragma once
+// Particles of one spawning event as a structure of arrays: the hot loop
+// touches only the arrays it needs. 45 bytes per particle.
+#include <cstdint>
+#include <vector>
+
+namespace cullcast::drift {
+
+// A particle's fate. Only `waiting` and `drifting` change; the rest are final.
+enum class Fate : std::uint8_t {
+  waiting = 0,   // not released yet
+  drifting = 1,  // in the water, alive
+  settled = 2,   // settled on a reef
+  died = 3,      // mortality, or older than the end of competency
+  stranded = 4,  // a step would have ended on land (land = "strand")
+  lost = 5,      // left the currents grid
+};
+
+struct ParticleSet {
+  std::vector<double> lon;           // degrees east
+  std::vector<double> lat;           // degrees north
+  std::vector<float> depth_m;        // metres below the surface
+  std::vector<float> release_s;      // release time, seconds after the event start
+  std::vector<double> weight;        // larvae represented (decays under weight mortality)
+  std::vector<std::uint32_t> source; // index of the release source
+  std::vector<std::uint32_t> index;  // index within the source (random streams)
+  std::vector<Fate> fate;
+  std::vector<std::int32_t> reef;    // settled reef, or -1
+
+  std::size_t size() const { return lon.size(); }
+  void resize(std::size_t n);
+  static constexpr std::size_t bytes_per_particle =
+      2 * sizeof(double) + 2 * sizeof(float) + sizeof(double) + 2 * sizeof(std::uint32_t) +
+      sizeof(Fate) + sizeof(std::int32_t);
+};
+
+}  // namespace cullcast::drift
