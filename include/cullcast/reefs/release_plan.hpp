@@ -19,6 +19,7 @@ struct ReleaseSource {
   SourceKind kind = SourceKind::reef;
   int reef_index = -1;       // reef it lies on (aggregations: attached reef, or -1)
   std::vector<LonLat> points;  // aggregations: the detections' positions
+  std::vector<double> point_weights;  // aggregations: animals seen at each point (empty = equal)
   double adults = 0;         // estimated adults (density x area, or counts)
 };
 
@@ -31,11 +32,22 @@ struct ReleasePoint {
   double weight = 1;           // larvae represented (1 until scaled by larval output)
 };
 
-// Sources for a study: every reef, plus every aggregation when the scenario has them.
+// Sources for a study: every reef (adults = surveyed density x area, with the
+// missing_survey policy; 0 without a survey table), then every aggregation
+// (adults = sum of its counts) when the scenario has them.
 std::vector<ReleaseSource> release_sources(const ReefSet& reefs, const study::Study& study);
 
 // Release points for one event, sources in order, particles in order within
 // each source (spatially grouped, which keeps the drift loop cache-friendly).
+// event.larvae_per_reef particles per source. Reefs: settings.placement
+// "uniform" (uniform by area on the sphere: uniform in lon and sin(lat) within
+// the bounding box, rejected outside the polygon; across a reef a few km wide
+// the WGS84 area density differs from this by ~1e-5 relative) or
+// "lattice" (exactly N points of a square lattice in a local equal-area frame:
+// the coarsest lattice with at least N points inside, thinned evenly when it
+// has more). Aggregations: at the detections, smooth weighted round-robin by
+// count. Release offset of particle i of N: event.hours * 3600 * i / N.
+// Depth: event.depth_m. Throws InputError if a reef is too thin to seed.
 std::vector<ReleasePoint> plan_release(const ReefSet& reefs,
                                        const std::vector<ReleaseSource>& sources,
                                        const study::SpawningEvent& event, std::uint32_t event_index,
