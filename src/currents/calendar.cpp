@@ -29,13 +29,15 @@ long long raw_days_julian(int y, int m, int d) {
   const long long doy = (153 * (m + (m > 2 ? -3 : 9)) + 2) / 5 + d - 1;
   return era * 1461 + yoe * 365 + doy;
 }
-// Gregorian 1970-01-01 is Julian 1969-12-19.
-const long long kJulianEpoch = raw_days_julian(1969, 12, 19);
+// Day counts for Julian dates: from Gregorian 1970-01-01 (= Julian 1969-12-19),
+// as the standard calendar needs, or from Julian 1970-01-01 (julian calendar).
+const long long kGregorianEpochInJulian = raw_days_julian(1969, 12, 19);
+const long long kJulianEpoch = raw_days_julian(1970, 1, 1);
 
-long long days_from_civil_julian(int y, int m, int d) { return raw_days_julian(y, m, d) - kJulianEpoch; }
+long long days_from_civil_julian(int y, int m, int d, long long epoch) { return raw_days_julian(y, m, d) - epoch; }
 
-void civil_from_days_julian(long long days, int& y, int& m, int& d) {
-  const long long z = days + kJulianEpoch;
+void civil_from_days_julian(long long days, long long epoch, int& y, int& m, int& d) {
+  const long long z = days + epoch;
   const long long era = floor_div(z, 1461);
   const long long doe = z - era * 1461;                       // 0..1460
   const long long yoe = std::min<long long>(doe / 365, 3);     // the last day of an era is day 365 of year 3
@@ -135,7 +137,7 @@ double Calendar::to_seconds(const CivilTime& t) const {
   long long days = 0;
   switch (kind_) {
     case CalendarKind::proleptic_gregorian: days = days_from_civil_gregorian(t.year, t.month, t.day); break;
-    case CalendarKind::julian: days = days_from_civil_julian(t.year, t.month, t.day); break;
+    case CalendarKind::julian: days = days_from_civil_julian(t.year, t.month, t.day, kJulianEpoch); break;
     case CalendarKind::noleap: days = fixed_year_days(t.year, t.month, t.day, 365); break;
     case CalendarKind::all_leap: days = fixed_year_days(t.year, t.month, t.day, 366); break;
     case CalendarKind::day360:
@@ -146,7 +148,7 @@ double Calendar::to_seconds(const CivilTime& t) const {
       if (g >= kGregorianStart) {
         days = g;
       } else {
-        days = days_from_civil_julian(t.year, t.month, t.day);
+        days = days_from_civil_julian(t.year, t.month, t.day, kGregorianEpochInJulian);
         // Julian 1582-10-05..14 would land on or after the switch: those dates do not exist.
         if (days >= kGregorianStart) {
           throw std::invalid_argument("date " + std::to_string(t.year) + "-" + std::to_string(t.month) + "-" +
@@ -170,7 +172,7 @@ CivilTime Calendar::to_civil(double seconds) const {
   CivilTime t;
   switch (kind_) {
     case CalendarKind::proleptic_gregorian: civil_from_days_gregorian(days, t.year, t.month, t.day); break;
-    case CalendarKind::julian: civil_from_days_julian(days, t.year, t.month, t.day); break;
+    case CalendarKind::julian: civil_from_days_julian(days, kJulianEpoch, t.year, t.month, t.day); break;
     case CalendarKind::noleap: fixed_year_civil(days, 365, t.year, t.month, t.day); break;
     case CalendarKind::all_leap: fixed_year_civil(days, 366, t.year, t.month, t.day); break;
     case CalendarKind::day360: {
@@ -183,7 +185,7 @@ CivilTime Calendar::to_civil(double seconds) const {
     }
     case CalendarKind::standard:
       if (days >= kGregorianStart) civil_from_days_gregorian(days, t.year, t.month, t.day);
-      else civil_from_days_julian(days, t.year, t.month, t.day);
+      else civil_from_days_julian(days, kGregorianEpochInJulian, t.year, t.month, t.day);
       break;
   }
   const long long whole = static_cast<long long>(std::floor(rest));
