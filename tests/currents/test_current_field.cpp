@@ -1,0 +1,266 @@
+// CurrentField on files written by ncgen (NetCDF reference tools): decoding
+// (CF-1.13 §8.1 packing, §2.5.1 missing data), regular grids in every
+// orientation, depth, time interpolation, multi-file sets and streaming.
+// Expected values are derived from the formulas written into the files [D]:
+// bilinear interpolation reproduces fields linear in lon and lat exactly.
+#include <catch2/catch.hpp>
+
+#include <cmath>
+
+#include "cullcast/base/error.hpp"
+#include "cullcast/currents/current_field.hpp"
+#include "currents_test_util.hpp"
+
+using namespace cullcast;
+using namespace cullcast::currents;
+using namespace cullcast::currents::testing;
+
+namespace {
+// Float storage of velocities: about 1e-7 relative; tolerance in m/s.
+constexpr double kTol_m_s = 2e-6;
+
+double lin_u(double t, double, double lat, double lon) { return 0.01 * (lon - 150.0) + 0.02 * (lat + 20.0) + 0.001 * t; }
+double lin_v(double t, double, double lat, double lon) { return -0.03 * (lon - 150.0) + 0.01 * (lat + 20.0) - 0.002 * t; }
+
+void check_linear(CurrentField& f, double lon_shift = 0.0) {
+  f.prepare(0.0 * 3600 + f.time_begin_s(), f.time_begin_s() + 3 * 3600.0);
+  for (double lon : {150.05, 150.123, 150.5, 150.77, 150.999}) {
+    for (double lat : {-20.4, -20.31, -20.0, -19.83}) {
+      for (double h : {0.0, 0.25, 1.5, 3.0}) {
+        const FlowSample s = f.sample(f.time_begin_s() + h * 3600.0, lon + lon_shift, lat, 0.0);
+        INFO("lon " << lon << " lat " << lat << " hour " << h);
+        REQUIRE(s.status == SampleStatus::water);
+        CHECK(s.u_m_s == Approx(lin_u(h, 0, lat, lon)).margin(kTol_m_s));
+        CHECK(s.v_m_s == Approx(lin_v(h, 0, lat, lon)).margin(kTol_m_s));
+      }
+    }
+  }
+}
+
+RegularSpec linear_spec(std::vector<double> lon, std::vector<double> lat) {
+  RegularSpec s;
+  s.lon = std::move(lon);
+  s.lat = std::move(lat);
+  s.time = {0, 1, 2, 3, 4};
+  s.u = lin_u;
+  s.v = lin_v;
+  return s;
+}
+}  // namespace
+
+TEST_CASE("bilinear exactness on regular grids: non-uniform, descending, 0..360", "[currents][grid]") {
+  ScratchDir dir;
+  SECTION("non-uniform ascending") {
+    auto f = CurrentField::open_files({ncgen(dir, "a", regular_cdl(linear_spec({150.0, 150.1, 150.35, 150.4, 150.9, 151.0},
+                                                                              {-20.5, -20.3, -20.25, -19.8})))});
+    CHECK(f.grid().kind == GridKind::regular);
+    check_linear(f);
+    // -180..180 positions on the same grid given as 0..360 or shifted by 360.
+    check_linear(f, 360.0);
+    check_linear(f, -360.0);
+  }
+  SECTION("descending latitude and longitude") {
+    auto f = CurrentField::open_files({ncgen(dir, "b", regular_cdl(linear_spec({151.0, 150.6, 150.2, 150.0},
+                                                                              {-19.8, -20.1, -20.2, -20.5})))});
+    check_linear(f);
+  }
+  SECTION("grid in 0..360 across the 180 meridian, positions in -180..180") {
+    RegularSpec s;
+    s.lon = {178.0, 179.0, 180.0, 181.0, 182.5};
+    s.lat = {-20.5, -19.5};
+    s.time = {0, 1};
+    s.u = [](double, double, double, double lon) { return 0.1 * (lon - 178.0); };
+    auto f = CurrentField::open_files({ncgen(dir, "c", regular_cdl(s))});
+    f.prepare(f.time_begin_s(), f.time_begin_s());
+    // -179.5 is 180.5 in 0..360.
+    CHECK(f.sample(f.time_begin_s(), -179.5, -20.0, 0).u_m_s == Approx(0.25).margin(kTol_m_s));
+    CHECK(f.sample(f.time_begin_s(), 179.5, -20.0, 0).u_m_s == Approx(0.15).margin(kTol_m_s));
+    CHECK(f.status(-177.0, -20.0) == SampleStatus::outside);
+    CHECK(f.status(-177.6, -20.0) == SampleStatus::water);
+  }
+  SECTION("grid in -180..180 written across the antimeridian, positions in 0..360") {
+    RegularSpec s;
+    s.lon = {178.0, 179.0, -180.0, -179.0};
+    s.lat = {-20.5, -19.5};
+    s.time = {0, 1};
+    s.u = [](double, double, double, double lon) { return lon < 0 ? 0.1 * (lon + 360.0 - 178.0) : 0.1 * (lon - 178.0); };
+    auto f = CurrentField::open_files({ncgen(dir, "d", regular_cdl(s))});
+    f.prepare(f.time_begin_s(), f.time_begin_s());
+    CHECK(f.sample(f.time_begin_s(), 180.5, -20.0, 0).u_m_s == Approx(0.25).margin(kTol_m_s));
+    CHECK(f.sample(f.time_begin_s(), -179.5, -20.0, 0).u_m_s == Approx(0.25).margin(kTol_m_s));
+  }
+}
+
+TEST_CASE("depth levels: trilinear, positive up or down, clamped", "[currents][grid]") {
+  ScratchDir dir;
+  for (const std::string positive : {"down", "up"}) {
+    RegularSpec s;
+    s.lon = {150.0, 150.5};
+    s.lat = {-20.5, -20.0};
+    s.time = {0, 1};
+    const double sign = positive == "down" ? 1.0 : -1.0;
+    s.depth = positive == "down" ? std::vector<double>{0, 10, 50} : std::vector<double>{-50, -10, 0};
+    s.depth_positive = positive;
+    s.u = [sign](double, double z, double, double) { return 0.5 - 0.01 * (sign * z); };
+    auto f = CurrentField::open_files({ncgen(dir, "z" + positive, regular_cdl(s))});
+    INFO("positive " << positive);
+    REQUIRE(f.grid().depths_m == std::vector<double>{0, 10, 50});
+    f.prepare(f.time_begin_s(), f.time_end_s());
+    const double t = f.time_begin_s();
+    CHECK(f.sample(t, 150.2, -20.2, 0).u_m_s == Approx(0.5).margin(kTol_m_s));
+    CHECK(f.sample(t, 150.2, -20.2, 5).u_m_s == Approx(0.45).margin(kTol_m_s));
+    CHECK(f.sample(t, 150.2, -20.2, 30).u_m_s == Approx(0.2).margin(kTol_m_s));
+    CHECK(f.sample(t, 150.2, -20.2, 80).u_m_s == Approx(0.0).margin(kTol_m_s));   // clamped to 50 m
+    CHECK(f.sample(t, 150.2, -20.2, -3).u_m_s == Approx(0.5).margin(kTol_m_s));  // above the top level
+  }
+}
+
+TEST_CASE("decoding: packing, fill, missing_value, valid_range, cm/s (CF-1.13 §8.1, §2.5.1)", "[currents][decode]") {
+  ScratchDir dir;
+  // 2 x 3 nodes, one frame twice (steady). u packed as short: u = p*0.001 + 0.5
+  // (CF-1.13 §8.1); p = -32767 is _FillValue, p = 999 is missing_value, p = 30000
+  // lies outside valid_range [-20000, 20000] which is compared in packed units
+  // (CF-1.13 §2.5.1). v in cm/s as float with NaN.
+  const std::string cdl = R"(netcdf packed {
+dimensions: time = 2 ; lat = 2 ; lon = 3 ;
+variables:
+  double time(time) ; time:units = "days since 2026-12-01" ; time:calendar = "gregorian" ;
+  float lon(lon) ; lon:units = "degrees_east" ;
+  float lat(lat) ; lat:units = "degrees_north" ;
+  short east(time, lat, lon) ; east:standard_name = "eastward_sea_water_velocity" ; east:units = "m s-1" ;
+    east:scale_factor = 0.001 ; east:add_offset = 0.5 ; east:_FillValue = -32767s ; east:missing_value = 999s ;
+    east:valid_range = -20000s, 20000s ;
+  float north(time, lat, lon) ; north:standard_name = "northward_sea_water_velocity" ; north:units = "cm/s" ;
+data:
+  time = 0, 1 ;
+  lon = 150, 150.5, 151 ;
+  lat = -20, -19 ;
+  east = 100, -32767, 999, 30000, -200, 0,   100, -32767, 999, 30000, -200, 0 ;
+  north = 10, 20, 30, NaN, -50, 5,   10, 20, 30, NaN, -50, 5 ;
+}
+)";
+  auto f = CurrentField::open_files({ncgen(dir, "packed", cdl)});
+  f.prepare(f.time_begin_s(), f.time_end_s());
+  const double t = f.time_begin_s() + 3600;
+  // Node (row 0, col 0): u = 100*0.001 + 0.5 = 0.6, v = 10 cm/s = 0.1 m/s.
+  FlowSample s = f.sample(t, 150.0, -20.0, 0);
+  CHECK(s.status == SampleStatus::water);
+  CHECK(s.u_m_s == Approx(0.6).margin(kTol_m_s));
+  CHECK(s.v_m_s == Approx(0.1).margin(kTol_m_s));
+  // Node (0,1) _FillValue, (0,2) missing_value, (1,0) outside valid_range and NaN: land.
+  CHECK(f.status(150.5, -20.0) == SampleStatus::land);
+  CHECK(f.status(151.0, -20.0) == SampleStatus::land);
+  CHECK(f.status(150.0, -19.0) == SampleStatus::land);
+  // Node (1,1): u = -200*0.001+0.5 = 0.3, v = -0.5; node (1,2): u = 0.5, v = 0.05.
+  s = f.sample(t, 150.5, -19.0, 0);
+  CHECK(s.status == SampleStatus::water);
+  CHECK(s.u_m_s == Approx(0.3).margin(kTol_m_s));
+  CHECK(s.v_m_s == Approx(-0.5).margin(kTol_m_s));
+  // Between (1,1) and (1,2): masked nodes count as 0, wet ones interpolate.
+  s = f.sample(t, 150.75, -19.0, 0);
+  CHECK(s.u_m_s == Approx(0.4).margin(kTol_m_s));
+  CHECK(s.v_m_s == Approx(-0.225).margin(kTol_m_s));
+  // Halfway between (0,0) wet and (0,1) masked: 0.5*0.6 + 0.5*0 (land by nearest node rule at 0.49).
+  s = f.sample(t, 150.25, -20.0, 0);
+  CHECK(s.u_m_s == Approx(0.3).margin(kTol_m_s));
+  CHECK(f.status(150.24, -20.0) == SampleStatus::water);
+  CHECK(f.status(150.26, -20.0) == SampleStatus::land);
+  CHECK(f.grid().land_fraction == Approx(3.0 / 6.0));
+  CHECK(f.calendar().kind() == CalendarKind::standard);
+}
+
+TEST_CASE("time: linear between frames, outside beyond the span, calendars", "[currents][time]") {
+  ScratchDir dir;
+  RegularSpec s = linear_spec({150, 150.5, 151}, {-20.5, -20, -19.5});
+  s.calendar = "360_day";
+  s.time_units = "days since 2026-02-29";
+  s.time = {0, 0.5, 1.0};
+  auto f = CurrentField::open_files({ncgen(dir, "t360", regular_cdl(s))});
+  CHECK(f.calendar().kind() == CalendarKind::day360);
+  CHECK(f.format_time(f.time_begin_s()) == "2026-02-29T00:00:00Z");
+  CHECK(f.format_time(f.time_end_s()) == "2026-02-30T00:00:00Z");
+  CHECK(f.frame_step_s() == 43200.0);
+  f.prepare(f.time_begin_s(), f.time_end_s());
+  // u depends on the file's time value t (days here): 0.001 * t.
+  const double t = f.time_begin_s() + 0.75 * 86400.0;
+  CHECK(f.sample(t, 150.2, -20.2, 0).u_m_s == Approx(lin_u(0.75, 0, -20.2, 150.2)).margin(kTol_m_s));
+  CHECK(f.sample(f.time_end_s() + 1, 150.2, -20.2, 0).status == SampleStatus::outside);
+  CHECK(f.sample(f.time_begin_s() - 1, 150.2, -20.2, 0).status == SampleStatus::outside);
+  CHECK_THROWS_AS(f.prepare(f.time_end_s(), f.time_end_s() + 86400.0), InputError);
+
+  // The scenario's calendar overrides the file's (CF says the file should have one).
+  study::CurrentsSettings settings;
+  s.calendar = "";
+  s.time_units = "days since 2020-02-28 23:10";
+  s.time = {0, 1};
+  settings.files = {ncgen(dir, "nocal", regular_cdl(s))};
+  CHECK(CurrentField::open(settings).format_time(CurrentField::open(settings).time_end_s()) == "2020-02-29T23:10:00Z");
+  settings.calendar = "noleap";
+  auto g = CurrentField::open(settings);
+  CHECK(g.calendar().kind() == CalendarKind::noleap);
+  CHECK(g.format_time(g.time_end_s()) == "2020-03-01T23:10:00Z");  // CF-1.13 §4.4.1 example
+}
+
+TEST_CASE("multi-file sets: concatenation, identical duplicates, conflicts, gaps", "[currents][files]") {
+  ScratchDir dir;
+  RegularSpec s = linear_spec({150, 150.5, 151}, {-20.5, -20, -19.5});
+  s.time = {6, 7, 8, 9};
+  const std::string late = ncgen(dir, "late", regular_cdl(s));
+  s.time = {0, 1, 2, 3};
+  const std::string early = ncgen(dir, "early", regular_cdl(s));
+  s.time = {3, 4};
+  const std::string overlap = ncgen(dir, "overlap", regular_cdl(s));
+  auto f = CurrentField::open_files({late, early, overlap});  // any order
+  CHECK(f.frame_count() == 9);  // 0..4, 6..9 with 3 de-duplicated
+  CHECK(f.frame_step_s() == 3600.0);
+  REQUIRE(f.gaps().size() == 1);
+  CHECK(f.format_time(f.gaps()[0].from_s) == "2026-12-01T04:00:00Z");
+  CHECK(f.format_time(f.gaps()[0].to_s) == "2026-12-01T06:00:00Z");
+  REQUIRE(f.files().size() == 3);
+  CHECK(f.files()[0] == early);
+  // Across the file boundary and the gap, linear in time.
+  f.prepare(f.time_begin_s() + 3.5 * 3600, f.time_begin_s() + 6.5 * 3600);
+  for (double h : {3.5, 4.0, 5.0, 6.5}) {
+    CHECK(f.sample(f.time_begin_s() + h * 3600, 150.3, -20.1, 0).u_m_s ==
+          Approx(lin_u(h, 0, -20.1, 150.3)).margin(kTol_m_s));
+  }
+  // A file holding time 3 with different data is refused.
+  s.u = [](double t, double z, double la, double lo) { return lin_u(t, z, la, lo) + 0.01; };
+  const std::string conflicting = ncgen(dir, "conflict", regular_cdl(s));
+  try {
+    CurrentField::open_files({early, conflicting});
+    FAIL("conflicting overlap accepted");
+  } catch (const InputError& e) {
+    const std::string m = e.what();
+    CHECK_THAT(m, Catch::Contains("early.nc") && Catch::Contains("conflict.nc") && Catch::Contains("different velocities"));
+  }
+}
+
+TEST_CASE("streaming: frame memory stays bounded over a long multi-file set", "[currents][stream]") {
+  ScratchDir dir;
+  std::vector<std::string> files;
+  for (int k = 0; k < 6; ++k) {
+    RegularSpec s = linear_spec({150, 150.2, 150.4, 150.6, 150.8, 151}, {-20.5, -20.25, -20, -19.75, -19.5});
+    s.time.clear();
+    for (int h = 0; h < 24; ++h) s.time.push_back(k * 24 + h);
+    files.push_back(ncgen(dir, "day" + std::to_string(k), regular_cdl(s)));
+  }
+  study::CurrentsSettings settings;
+  for (const auto& p : files) settings.files.emplace_back(p);
+  settings.frames_ahead = 2;
+  auto f = CurrentField::open(settings);
+  REQUIRE(f.frame_count() == 144);
+  CHECK(f.frame_bytes() == 0);  // nothing loaded before prepare()
+  const size_t nodes = 30;
+  size_t peak = 0;
+  const double t0 = f.time_begin_s();
+  for (double t = t0; t + 600 <= f.time_end_s(); t += 600) {  // 10-minute steps
+    f.prepare(t, t + 600);
+    peak = std::max(peak, f.frame_bytes());
+    const double h = (t + 300 - t0) / 3600.0;
+    REQUIRE(f.sample(t + 300, 150.5, -20.1, 0).u_m_s == Approx(lin_u(h, 0, -20.1, 150.5)).margin(kTol_m_s));
+  }
+  // 1 + frames_ahead intervals of 4 floats per node, plus one decoded frame.
+  CHECK(peak <= (3 * 4 + 2) * sizeof(float) * nodes + nodes);
+  CHECK(peak > 0);
+}
