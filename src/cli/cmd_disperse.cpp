@@ -1,17 +1,19 @@
 #include "cli_context.hpp"
-#include "cullcast/base/error.hpp"
+#include "disperse_stage.hpp"
 
 namespace cullcast::cli {
 
 void add_disperse_command(CLI::App& app, CliContext& ctx) {
-  CLI::App* cmd = app.add_subcommand("disperse", "Release and drift larvae; write settlement records");
-  cmd->footer("Example:\n  cullcast disperse scenarios/demo.toml --threads 2");
+  CLI::App* cmd =
+      app.add_subcommand("disperse", "Release and drift larvae; write settlement records");
+  cmd->footer("Example:\n  cullcast disperse scenarios/lantern-reach.toml --threads 2");
   auto scenario = std::make_shared<std::string>();
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      ctx.load(*scenario);
-      throw NotBuiltError("the drift stage is not built in this version of cullcast");
+      const study::Study study = ctx.load(*scenario);
+      run_disperse_stage(ctx, study);
+      return 0;
     };
   });
 }

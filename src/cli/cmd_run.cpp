@@ -1,17 +1,24 @@
 #include "cli_context.hpp"
-#include "cullcast/base/error.hpp"
+#include "disperse_stage.hpp"
 
 namespace cullcast::cli {
 
 void add_run_command(CLI::App& app, CliContext& ctx) {
   CLI::App* cmd = app.add_subcommand("run", "Run every stage the scenario configures");
-  cmd->footer("Example:\n  cullcast run scenarios/demo.toml --threads 2");
+  cmd->footer("Example:\n  cullcast run scenarios/lantern-reach.toml --threads 2");
   auto scenario = std::make_shared<std::string>();
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      ctx.load(*scenario);
-      throw NotBuiltError("the drift stage is not built in this version of cullcast");
+      const study::Study study = ctx.load(*scenario);
+      run_disperse_stage(ctx, study);
+      if (!ctx.quiet) {
+        ctx.out << "Not built yet in this version: connectivity, cull prioritisation and the "
+                   "briefing (run stopped after the drift stage).\n"
+                   "Outputs are decision support with stated uncertainty; field work follows "
+                   "local dive-safety codes, permits and licensed practice.\n";
+      }
+      return 0;
     };
   });
 }

@@ -1,0 +1,70 @@
+#include "disperse_stage.hpp"
+
+#include <omp.h>
+
+#include <cstdio>
+#include <ostream>
+
+#include "cullcast/currents/current_field.hpp"
+#include "cullcast/reefs/reef_set.hpp"
+#include "cullcast/reefs/release_plan.hpp"
+#include "progress_display.hpp"
+
+namespace cullcast::cli {
+namespace {
+
+void print_summary(std::ostream& out, const drift::DriftSummary& s) {
+  auto row = [&](const char* name, std::int64_t n, std::int64_t of) {
+    char share[32];
+    std::snprintf(share, sizeof share, "%6.2f %%", of > 0 ? 100.0 * n / of : 0.0);
+    out << "  " << name << std::string(12 - std::string(name).size(), ' ')
+        << std::string(14 - with_thousands(n).size(), ' ') << with_thousands(n) << "  " << share
+        << "\n";
+  };
+  out << "Drift finished: " << s.events.size() << " spawning event(s)\n";
+  const auto& t = s.totals;
+  row("released", t.released, t.released);
+  row("settled", t.settled, t.released);
+  row("died", t.died, t.released);
+  row("stranded", t.stranded, t.released);
+  row("lost", t.lost, t.released);
+  row("drifting", t.drifting, t.released);
+  char speed[96];
+  std::snprintf(speed, sizeof speed, "%.2f million particle-steps per second (%d threads)",
+                s.particle_steps_per_s / 1e6, omp_get_max_threads());
+  out << "  " << with_thousands(s.particle_steps) << " particle-steps in "
+      << format_duration(s.seconds) << ": " << speed << "\n";
+  if (s.land_contacts > 0) {
+    out << "  " << with_thousands(s.land_contacts) << " steps were held back from land\n";
+  }
+  out << "  settlement records: " << s.records_netcdf.string();
+  if (!s.records_csv.empty()) out << " and " << s.records_csv.string();
+  out << " (" << with_thousands(s.records) << " records)\n";
+}
+
+}  // namespace
+
+drift::DriftSummary run_disperse_stage(const CliContext& ctx, const study::Study& study) {
+  if (!ctx.quiet) {
+    ctx.out << "Study \"" << study.study.name << "\" (seed " << study.study.seed << ", "
+            << study.motion.scheme << ", dt " << study.motion.dt_minutes << " min, Kh "
+            << study.motion.kh_m2_s << " m2/s, " << omp_get_max_threads() << " threads)\n";
+  }
+  currents::CurrentField field = currents::CurrentField::open(study.currents);
+  const reefs::ReefSet reef_set = reefs::ReefSet::load(study.reefs);
+  const auto sources = reefs::release_sources(reef_set, study);
+  if (!ctx.quiet) {
+    ctx.out << "  " << study.currents.files.size() << " currents file(s), "
+            << field.frame_count() << " frames; " << reef_set.size() << " reefs, "
+            << sources.size() << " release sources\n";
+  }
+  ProgressDisplay display(ctx.err, ctx.show_progress(), field.calendar());
+  drift::DriftSummary summary =
+      drift::run_drift(study, field, reef_set, sources, [&](const drift::DriftProgress& p) { display(p); });
+  display.finish();
+  for (const auto& w : summary.warnings) ctx.err << "cullcast: warning: " << w << "\n";
+  if (!ctx.quiet) print_summary(ctx.out, summary);
+  return summary;
+}
+
+}  // namespace cullcast::cli
