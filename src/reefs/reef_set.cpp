@@ -123,6 +123,7 @@ ReefSet ReefSet::load(const study::ReefSettings& settings) {
   }
   const std::string where = file + " layer " + in_quotes(layer->GetName());
 
+  if (layer->GetFeatureCount(TRUE) == 0) throw InputError(where + ": contains no reef features");
   // Fields.
   OGRFeatureDefn& defn = *layer->GetLayerDefn();
   const int id_index = require_field(defn, settings.id_field, "id", where);
