@@ -67,6 +67,9 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
   const double t1 = t0 + s.dt_s;
   const double walk = std::sqrt(2.0 * s.kh_m2_s * s.dt_s);  // metres, one standard deviation
   const double settle_p = clock.settle_probability(s.dt_s);
+  // Constant hazard: the same survival factor every step (one exp, not one per particle).
+  const double constant_survive = clock.step_survival(0.0, s.dt_s);
+  const bool constant_hazard = clock.constant_hazard();
   const std::int64_t n = static_cast<std::int64_t>(p.size());
   settled_now.assign(p.size(), 0);
 
@@ -90,19 +93,23 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
     const double depth = p.depth_m[i];
     const Vec2 start{p.lon[i], p.lat[i]};
     double speed_seen = 0;
+    const EarthModel::Local metric = earth.near(start[1]);
     auto rate = [&](double t, const Vec2& x) noexcept -> Vec2 {
       const currents::FlowSample f = flow.sample(t, x[0], x[1], depth);
       speed_seen = std::fmax(speed_seen, std::fabs(f.u_m_s) + std::fabs(f.v_m_s));
-      return {f.u_m_s / earth.metres_per_degree_lon(x[1]),
-              f.v_m_s / earth.metres_per_degree_lat(x[1])};
+      double east, north;
+      metric.degrees_per_metre(x[1], east, north);
+      return {f.u_m_s * east, f.v_m_s * north};
     };
     Vec2 x = advance(s.scheme, rate, t0_model, start, s.dt_s);
     max_speed = std::fmax(max_speed, speed_seen);
     const StreamId id{s.event, p.source[i], p.index[i]};
     if (walk > 0) {
       const auto z = rng.normal2(id, step, Draw::diffusion);
-      x[0] += z[0] * walk / earth.metres_per_degree_lon(x[1]);
-      x[1] += z[1] * walk / earth.metres_per_degree_lat(x[1]);
+      double east, north;
+      metric.degrees_per_metre(x[1], east, north);
+      x[0] += z[0] * walk * east;
+      x[1] += z[1] * walk * north;
     }
     const currents::SampleStatus where = flow.status(x[0], x[1]);
     if (where == currents::SampleStatus::outside) {
@@ -126,7 +133,7 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
 
     const double age0 = t0 - p.release_s[i];
     const double age1 = t1 - p.release_s[i];
-    const double survive = clock.step_survival(age0, age1);
+    const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
     if (clock.random_deaths()) {
       if (survive < 1.0 && rng.uniform2(id, step, Draw::mortality)[0] >= survive) {
         p.fate[i] = Fate::died;

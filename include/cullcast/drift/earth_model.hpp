@@ -35,6 +35,45 @@ class EarthModel {
     return a_ / std::sqrt(1 - e2_ * s * s) * c * kRad;
   }
   bool is_sphere() const noexcept { return e2_ == 0; }
+
+  // Degrees per metre east and north near a reference latitude. The drift
+  // step asks for these at every RK stage; the stages lie within a fraction
+  // of a degree of the step's start, so sin and cos there come from a Taylor
+  // expansion about the start (error below 1e-15 for offsets under 0.01 rad,
+  // exact library calls beyond that) instead of new library calls.
+  class Local {
+   public:
+    Local(const EarthModel& earth, double lat0_deg) noexcept
+        : earth_(earth), lat0_(lat0_deg), s0_(std::sin(lat0_deg * kRad)), c0_(std::cos(lat0_deg * kRad)) {}
+    // {degrees east per metre, degrees north per metre} at latitude lat_deg.
+    void degrees_per_metre(double lat_deg, double& east, double& north) const noexcept {
+      double s, c;
+      const double d = (lat_deg - lat0_) * kRad;
+      if (std::fabs(d) < 0.01) {
+        const double d2 = d * d;
+        const double cd = 1 - d2 * (0.5 - d2 * (1.0 / 24 - d2 * (1.0 / 720)));
+        const double sd = d * (1 - d2 * (1.0 / 6 - d2 * (1.0 / 120 - d2 * (1.0 / 5040))));
+        s = s0_ * cd + c0_ * sd;
+        c = c0_ * cd - s0_ * sd;
+      } else {
+        s = std::sin(lat_deg * kRad);
+        c = std::cos(lat_deg * kRad);
+      }
+      if (earth_.e2_ == 0) {
+        north = 1.0 / (earth_.a_ * kRad);
+        east = north / c;
+        return;
+      }
+      const double w = 1 - earth_.e2_ * s * s, root = std::sqrt(w);
+      north = w * root / (earth_.a_ * (1 - earth_.e2_) * kRad);
+      east = root / (earth_.a_ * c * kRad);
+    }
+
+   private:
+    const EarthModel& earth_;
+    double lat0_, s0_, c0_;
+  };
+  Local near(double lat0_deg) const noexcept { return Local(*this, lat0_deg); }
   double equatorial_radius_m() const noexcept { return a_; }
 
  private:

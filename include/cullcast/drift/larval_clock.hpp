@@ -48,6 +48,8 @@ class LarvalClock {
   double step_survival(double a0_s, double a1_s) const noexcept {
     return std::exp(-(cumulative_hazard(a1_s) - cumulative_hazard(a0_s)));
   }
+  // True when the survival over a step depends only on its length (constant hazard).
+  bool constant_hazard() const noexcept { return !weibull_; }
   // Probability that a competent larva over a reef settles during a step of dt.
   double settle_probability(double dt_s) const noexcept {
     if (std::isinf(settle_rate_per_s_)) return 1.0;
