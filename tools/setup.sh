@@ -51,6 +51,10 @@ case "${1:-}" in
   demo)
     install_missing
     configure_and_build "$build_dir"
+    if ! ls "$root"/scenarios/lantern-reach/currents/*.nc >/dev/null 2>&1; then
+      echo "setup: generating the demo currents (synthetic, deterministic)"
+      "$build_dir/cullcast" demo-data "$root/scenarios/lantern-reach/currents"
+    fi
     "$build_dir/cullcast" run "$root/scenarios/lantern-reach.toml"
     ;;
   test)
