@@ -17,8 +17,8 @@ namespace cullcast::study {
 namespace fs = std::filesystem;
 namespace {
 
-const std::vector<std::string> kSections = {"study",  "currents", "reefs",  "spawning",
-                                            "larvae", "motion",   "outputs"};
+const std::vector<std::string> kSections = {"study",  "currents", "reefs",   "spawning",
+                                            "larvae", "motion",   "outputs", "connectivity"};
 
 struct Context {
   std::string file;  // as shown in messages
@@ -245,6 +245,50 @@ OutputSettings read_outputs(const toml::table* t, const Context& ctx, toml::sour
   return s;
 }
 
+ConnectivitySettings read_connectivity(const toml::table* t, const Context& ctx,
+                                       toml::source_region where) {
+  SectionReader r(t, "connectivity", ctx.file, where);
+  ConnectivitySettings s;
+  s.min_probability = r.number("min_probability", s.min_probability);
+  r.require_range("min_probability", s.min_probability, 0, 1, "probability");
+  s.target_relative_error = r.number("target_relative_error", s.target_relative_error);
+  r.require_positive("target_relative_error", s.target_relative_error, "relative standard error");
+  s.confidence = r.number("confidence", s.confidence);
+  if (!(s.confidence > 0 && s.confidence < 1)) {
+    r.fail("confidence", "must lie strictly between 0 and 1, found " + std::to_string(s.confidence));
+  }
+  if (t != nullptr && t->get("quantiles") != nullptr) {
+    const toml::node* n = t->get("quantiles");
+    r.mark_known("quantiles");
+    if (!n->is_array()) r.fail("quantiles", "expected a list of numbers, found " + describe_node(*n));
+    s.quantiles.clear();
+    for (const toml::node& item : *n->as_array()) {
+      double q = 0;
+      if (item.is_floating_point()) {
+        q = item.as_floating_point()->get();
+      } else if (item.is_integer()) {
+        q = static_cast<double>(item.as_integer()->get());
+      } else {
+        r.fail("quantiles", "expected a list of numbers, found an item that is " + describe_node(item));
+      }
+      if (!(q >= 0 && q <= 1)) {
+        r.fail("quantiles", "every quantile must lie in 0..1, found " + std::to_string(q));
+      }
+      s.quantiles.push_back(q);
+    }
+  }
+  const std::int64_t generations = r.integer("generations", s.generations);
+  r.require_range("generations", static_cast<double>(generations), 1, 100, "generations");
+  s.generations = static_cast<int>(generations);
+  s.lifetime_reproduction = r.number("lifetime_reproduction", s.lifetime_reproduction);
+  r.require_positive("lifetime_reproduction", s.lifetime_reproduction, "settlers per settler");
+  s.larval_output = r.text("larval_output", s.larval_output);
+  r.require_one_of("larval_output", s.larval_output, {"adults", "equal"});
+  s.attribute = r.text_list("attribute", false);
+  r.finish();
+  return s;
+}
+
 void check_top_level(const toml::table& root, const Context& ctx) {
   for (auto&& [key, value] : root) {
     const std::string name(key.str());
@@ -252,7 +296,8 @@ void check_top_level(const toml::table& root, const Context& ctx) {
     const std::string hint = closest_match(name, kSections);
     throw InputError(location_text(ctx.file, key.source()) + ": unknown section [" + name + "]" +
                      (hint.empty() ? "" : " (did you mean [" + hint + "]?)") +
-                     "; known sections: study, currents, reefs, spawning, larvae, motion, outputs");
+                     "; known sections: study, currents, reefs, spawning, larvae, motion, "
+                     "outputs, connectivity");
   }
 }
 
@@ -297,6 +342,7 @@ Study load_study_text(const std::string& text, const fs::path& source_name,
   s.larvae = read_larvae(section_table(root, "larvae", ctx), ctx, where);
   s.motion = read_motion(section_table(root, "motion", ctx), ctx, where);
   s.outputs = read_outputs(section_table(root, "outputs", ctx), ctx, where);
+  s.connectivity = read_connectivity(section_table(root, "connectivity", ctx), ctx, where);
   return s;
 }
 

@@ -80,6 +80,23 @@ struct OutputSettings {
   bool settlement_csv = false;        // also write settlement records as CSV
 };
 
+struct ConnectivitySettings {
+  // Links with probability below this are left out of the graph metrics
+  // (degree, betweenness, components, reach); dimensionless, 0..1.
+  double min_probability = 1e-3;
+  // Particle-count warning: a link of probability min_probability should be
+  // estimated with at most this relative standard error (dimensionless).
+  double target_relative_error = 0.5;
+  double confidence = 0.95;                      // level of the Wilson intervals
+  std::vector<double> quantiles = {0.05, 0.5, 0.95};  // ensemble quantiles per link, 0..1
+  int generations = 3;                           // k of the k-generation reach (P^k)
+  // Larvae a settler produces over its life, scaled to settlers (recruits per
+  // recruit before dispersal): scales the persistence matrix. An assumption.
+  double lifetime_reproduction = 1.0;
+  std::string larval_output = "adults";          // adults (surveys) | equal: weights of the realised matrix
+  std::vector<std::string> attribute;            // sink reef / aggregation ids for source attribution
+};
+
 struct Study {
   std::filesystem::path scenario_file;  // absolute
   std::filesystem::path base_dir;       // folder that relative paths resolve against
@@ -90,6 +107,7 @@ struct Study {
   LarvaeSettings larvae;
   MotionSettings motion;
   OutputSettings outputs;
+  ConnectivitySettings connectivity;
   std::vector<std::string> overrides;   // --set items applied, for provenance
 };
 
