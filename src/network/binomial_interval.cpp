@@ -26,7 +26,8 @@ Interval wilson_interval(double x, double n, double confidence) {
   const double z2 = z * z;
   const double centre = (x + z2 / 2) / (n + z2);
   const double half = z / (n + z2) * std::sqrt(x * (n - x) / n + z2 / 4);
-  return {std::max(0.0, centre - half), std::min(1.0, centre + half)};
+  // At x = 0 and x = n the bounds are exactly 0 and 1; rounding would leave 1e-17.
+  return {x == 0 ? 0.0 : std::max(0.0, centre - half), x == n ? 1.0 : std::min(1.0, centre + half)};
 }
 
 double resolution_limit(std::int64_t n) { return n > 0 ? 1.0 / static_cast<double>(n) : 1.0; }
