@@ -207,6 +207,12 @@ TEST_CASE("release_sources: reefs with density x area, then aggregations", "[ree
   CHECK(zero == 5);  // make_reefs.py leaves five reefs unsurveyed
   // LR-02's survey line says 53.3 per ha.
   CHECK(sources[1].adults == Approx(53.3 * set.reefs()[1].area_ha));
+  // make_reefs.py: two groups on reefs, one 500 m off a reef, one in open water.
+  REQUIRE(sources.size() == set.size() + 4);
+  CHECK(sources[set.size()].reef_index >= 0);
+  CHECK(sources[set.size() + 1].reef_index >= 0);
+  CHECK(sources[set.size() + 2].reef_index == 24);  // LR-25, placed beside it by the script
+  CHECK(sources[set.size() + 3].reef_index == -1);
   for (std::size_t k = set.size(); k < sources.size(); ++k) {
     CHECK(sources[k].kind == SourceKind::aggregation);
     CHECK(sources[k].id == "AGG-" + std::to_string(k - set.size() + 1));
