@@ -1,5 +1,5 @@
 #include "cli_context.hpp"
-#include "cullcast/base/error.hpp"
+#include "connect_stage.hpp"
 
 namespace cullcast::cli {
 
@@ -10,8 +10,9 @@ void add_connect_command(CLI::App& app, CliContext& ctx) {
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      ctx.load(*scenario);  // validate the scenario before saying what is missing
-      throw NotBuiltError("the connectivity stage is not built in this version of cullcast");
+      const study::Study study = ctx.load(*scenario);
+      run_connect_stage(ctx, study);
+      return 0;
     };
   });
 }

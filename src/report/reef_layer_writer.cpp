@@ -1,0 +1,129 @@
+#include "cullcast/report/reef_layer_writer.hpp"
+
+#include <gdal_priv.h>
+#include <ogr_geometry.h>
+#include <ogr_spatialref.h>
+#include <ogrsf_frmts.h>
+
+#include <cmath>
+#include <memory>
+#include <mutex>
+#include <stdexcept>
+
+#include "cullcast/base/atomic_file.hpp"
+
+namespace cullcast::report {
+namespace fs = std::filesystem;
+namespace {
+
+struct DatasetCloser {
+  void operator()(GDALDataset* d) const noexcept { GDALClose(GDALDataset::ToHandle(d)); }
+};
+using DatasetPtr = std::unique_ptr<GDALDataset, DatasetCloser>;
+
+std::string driver_for(const fs::path& path) {
+  std::string ext = path.extension().string();
+  for (char& ch : ext) ch = static_cast<char>(std::tolower(static_cast<unsigned char>(ch)));
+  if (ext == ".geojson" || ext == ".json") return "GeoJSON";
+  if (ext == ".gpkg") return "GPKG";
+  throw std::runtime_error("cannot write " + path.string() +
+                           ": unknown GIS format (expected .geojson or .gpkg)");
+}
+
+OGRLinearRing ring_of(const reefs::Ring& r) {
+  OGRLinearRing ring;
+  for (const auto& p : r) ring.addPoint(p.lon, p.lat);
+  ring.closeRings();
+  return ring;
+}
+
+}  // namespace
+
+void write_reef_layer(const fs::path& path, const std::vector<reefs::Reef>& reefs,
+                      const std::vector<LayerField>& fields, const std::string& layer_name) {
+  const std::string driver_name = driver_for(path);
+  for (const auto& f : fields) {
+    const std::size_t n = f.type == LayerField::Type::real      ? f.reals.size()
+                          : f.type == LayerField::Type::integer ? f.integers.size()
+                                                                : f.texts.size();
+    if (n != reefs.size()) {
+      throw std::invalid_argument("write_reef_layer: field '" + f.name + "' has " +
+                                  std::to_string(n) + " values for " + std::to_string(reefs.size()) +
+                                  " reefs");
+    }
+  }
+  static std::once_flag once;
+  std::call_once(once, [] { GDALAllRegister(); });
+  GDALDriver* driver = GetGDALDriverManager()->GetDriverByName(driver_name.c_str());
+  if (driver == nullptr) throw std::runtime_error("GDAL has no " + driver_name + " driver");
+  const auto fail = [&](const std::string& what) {
+    return std::runtime_error("cannot write " + path.string() + ": " + what + ": " +
+                              CPLGetLastErrorMsg());
+  };
+  AtomicFile target(path);
+  {
+    DatasetPtr ds(driver->Create(target.temp_path().c_str(), 0, 0, 0, GDT_Unknown, nullptr));
+    if (!ds) throw fail("cannot create the dataset");
+    OGRSpatialReference wgs84;
+    wgs84.SetWellKnownGeogCS("WGS84");
+    wgs84.SetAxisMappingStrategy(OAMS_TRADITIONAL_GIS_ORDER);  // lon, lat
+    OGRLayer* layer = ds->CreateLayer(layer_name.c_str(), &wgs84, wkbMultiPolygon, nullptr);
+    if (layer == nullptr) throw fail("cannot create layer '" + layer_name + "'");
+    auto add_field = [&](const std::string& name, OGRFieldType type) {
+      OGRFieldDefn defn(name.c_str(), type);
+      if (layer->CreateField(&defn) != OGRERR_NONE) throw fail("cannot create field '" + name + "'");
+    };
+    add_field("id", OFTString);
+    add_field("name", OFTString);
+    for (const auto& f : fields) {
+      add_field(f.name, f.type == LayerField::Type::real      ? OFTReal
+                        : f.type == LayerField::Type::integer ? OFTInteger64
+                                                              : OFTString);
+    }
+    // One transaction: GeoPackage writes feature by feature otherwise (slow).
+    const bool transaction = ds->StartTransaction() == OGRERR_NONE;
+    for (std::size_t i = 0; i < reefs.size(); ++i) {
+      OGRFeatureUniquePtr feature(OGRFeature::CreateFeature(layer->GetLayerDefn()));
+      feature->SetField("id", reefs[i].id.c_str());
+      feature->SetField("name", reefs[i].name.c_str());
+      for (const auto& f : fields) {
+        const int k = feature->GetFieldIndex(f.name.c_str());
+        switch (f.type) {
+          case LayerField::Type::real:
+            if (std::isnan(f.reals[i])) {
+              feature->SetFieldNull(k);
+            } else {
+              feature->SetField(k, f.reals[i]);
+            }
+            break;
+          case LayerField::Type::integer:
+            feature->SetField(k, static_cast<GIntBig>(f.integers[i]));
+            break;
+          case LayerField::Type::text:
+            feature->SetField(k, f.texts[i].c_str());
+            break;
+        }
+      }
+      OGRMultiPolygon shape;
+      for (const auto& part : reefs[i].parts) {
+        OGRPolygon polygon;
+        OGRLinearRing outer = ring_of(part.outer);
+        polygon.addRing(&outer);
+        for (const auto& hole : part.holes) {
+          OGRLinearRing h = ring_of(hole);
+          polygon.addRing(&h);
+        }
+        shape.addGeometry(&polygon);
+      }
+      feature->SetGeometry(&shape);
+      if (layer->CreateFeature(feature.get()) != OGRERR_NONE) {
+        throw fail("cannot write feature " + std::to_string(i) + " (reef \"" + reefs[i].id + "\")");
+      }
+    }
+    if (transaction && ds->CommitTransaction() != OGRERR_NONE) throw fail("cannot commit");
+    ds->FlushCache();
+  }  // dataset closed before the rename
+  target.commit();
+}
+
+}  // namespace cullcast::report
