@@ -18,7 +18,8 @@ namespace fs = std::filesystem;
 namespace {
 
 const std::vector<std::string> kSections = {"study",  "currents", "reefs",   "spawning",
-                                            "larvae", "motion",   "outputs", "connectivity"};
+                                            "larvae", "motion",   "outputs", "connectivity",
+                                            "tracks", "backward"};
 
 struct Context {
   std::string file;  // as shown in messages
@@ -210,6 +211,23 @@ LarvaeSettings read_larvae(const toml::table* t, const Context& ctx, toml::sourc
   if (!(s.settle_rate_per_day > 0)) {
     r.fail("settle_rate_per_day", "must be > 0 per day (inf = settle on the first reef reached)");
   }
+  s.temperature_effect = r.text("temperature_effect", s.temperature_effect);
+  r.require_one_of("temperature_effect", s.temperature_effect, {"auto", "off"});
+  s.reference_temperature_c = r.number("reference_temperature_c", s.reference_temperature_c);
+  r.require_range("reference_temperature_c", s.reference_temperature_c, -2, 40, "deg C");
+  s.development_q10 = r.number("development_q10", s.development_q10);
+  r.require_range("development_q10", s.development_q10, 1, 20, "dimensionless");
+  s.food_effect = r.text("food_effect", s.food_effect);
+  r.require_one_of("food_effect", s.food_effect, {"auto", "off"});
+  s.food_saturation_mg_m3 = r.number("food_saturation_mg_m3", s.food_saturation_mg_m3);
+  r.require_positive("food_saturation_mg_m3", s.food_saturation_mg_m3, "mg m-3");
+  s.food_odds_per_doubling = r.number("food_odds_per_doubling", s.food_odds_per_doubling);
+  r.require_range("food_odds_per_doubling", s.food_odds_per_doubling, 1, 1000, "odds ratio");
+  s.completion_at_saturation = r.number("completion_at_saturation", s.completion_at_saturation);
+  if (!(s.completion_at_saturation > 0 && s.completion_at_saturation < 1)) {
+    r.fail("completion_at_saturation",
+           "must lie strictly between 0 and 1, found " + std::to_string(s.completion_at_saturation));
+  }
   r.finish();
   return s;
 }
@@ -230,6 +248,60 @@ MotionSettings read_motion(const toml::table* t, const Context& ctx, toml::sourc
   r.require_range("earth_radius_m", s.earth_radius_m, 1e6, 1e8, "metres");
   s.land = r.text("land", s.land);
   r.require_one_of("land", s.land, {"hold", "strand"});
+  s.depth = r.text("depth", s.depth);
+  r.require_one_of("depth", s.depth, {"fixed", "band", "3d"});
+  s.band_top_m = r.number("band_top_m", s.band_top_m);
+  r.require_range("band_top_m", s.band_top_m, 0, 11000, "metres");
+  s.band_bottom_m = r.number("band_bottom_m", s.band_bottom_m);
+  r.require_range("band_bottom_m", s.band_bottom_m, 0, 11000, "metres");
+  if (s.band_bottom_m < s.band_top_m) {
+    r.fail("band_bottom_m", "must be >= band_top_m (" + std::to_string(s.band_top_m) +
+                                " m), found " + std::to_string(s.band_bottom_m));
+  }
+  s.kv_m2_s = r.number("kv_m2_s", s.kv_m2_s);
+  r.require_range("kv_m2_s", s.kv_m2_s, 0, 10, "m2 s-1");
+  if (t != nullptr && t->get("depth_by_age") != nullptr) {
+    const toml::node* n = t->get("depth_by_age");
+    r.mark_known("depth_by_age");
+    if (!n->is_array()) {
+      r.fail("depth_by_age", "expected a list of [age_days, top_m, bottom_m], found " + describe_node(*n));
+    }
+    for (const toml::node& row : *n->as_array()) {
+      const toml::array* a = row.as_array();
+      std::vector<double> v;
+      if (a != nullptr) {
+        for (const toml::node& x : *a) {
+          if (x.is_floating_point()) v.push_back(x.as_floating_point()->get());
+          else if (x.is_integer()) v.push_back(static_cast<double>(x.as_integer()->get()));
+        }
+      }
+      if (a == nullptr || a->size() != 3 || v.size() != 3) {
+        r.fail("depth_by_age", "every row must be [age_days, top_m, bottom_m] (three numbers), found " +
+                                   describe_node(row));
+      }
+      if (!(v[0] >= 0) || !(v[1] >= 0) || !(v[2] >= v[1])) {
+        r.fail("depth_by_age", "row [" + std::to_string(v[0]) + ", " + std::to_string(v[1]) + ", " +
+                                   std::to_string(v[2]) + "]: need age >= 0 and 0 <= top_m <= bottom_m");
+      }
+      if (!s.depth_by_age.empty() && !(v[0] > s.depth_by_age.back().age_days)) {
+        r.fail("depth_by_age", "ages must increase from row to row, found " + std::to_string(v[0]) +
+                                   " after " + std::to_string(s.depth_by_age.back().age_days));
+      }
+      s.depth_by_age.push_back({v[0], v[1], v[2]});
+    }
+  }
+  s.swim_m_s = r.number("swim_m_s", s.swim_m_s);
+  r.require_range("swim_m_s", s.swim_m_s, 0, 1, "m s-1");
+  s.kh_from = r.text("kh_from", s.kh_from);
+  r.require_one_of("kh_from", s.kh_from, {"constant", "field", "smagorinsky"});
+  s.kv_from = r.text("kv_from", s.kv_from);
+  r.require_one_of("kv_from", s.kv_from, {"constant", "field"});
+  const std::string dfile = r.text("diffusivity_file", "");
+  if (!dfile.empty()) s.diffusivity_file = existing_file(r, ctx, "diffusivity_file", dfile);
+  s.kh_variable = r.text("kh_variable", s.kh_variable);
+  s.kv_variable = r.text("kv_variable", s.kv_variable);
+  s.smagorinsky_c = r.number("smagorinsky_c", s.smagorinsky_c);
+  r.require_range("smagorinsky_c", s.smagorinsky_c, 0, 1, "dimensionless");
   r.finish();
   return s;
 }
@@ -289,6 +361,37 @@ ConnectivitySettings read_connectivity(const toml::table* t, const Context& ctx,
   return s;
 }
 
+TrackSettings read_tracks(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "tracks", ctx.file, where);
+  TrackSettings s;
+  s.enabled = r.boolean("enabled", t != nullptr);  // a [tracks] section switches them on
+  const std::int64_t k = r.integer("every_particle", s.every_particle);
+  r.require_range("every_particle", static_cast<double>(k), 1, 1e9, "particles");
+  s.every_particle = static_cast<int>(k);
+  const std::int64_t m = r.integer("every_steps", s.every_steps);
+  r.require_range("every_steps", static_cast<double>(m), 1, 1e9, "steps");
+  s.every_steps = static_cast<int>(m);
+  r.finish();
+  return s;
+}
+
+BackwardSettings read_backward(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "backward", ctx.file, where);
+  BackwardSettings s;
+  if (t == nullptr) return s;
+  s.sink = r.required_text("sink");
+  s.arrival = read_time(*t, "arrival", r);
+  s.hours = r.number("hours", s.hours);
+  r.require_range("hours", s.hours, 0, 24 * 366, "hours");
+  const std::int64_t n = r.integer("larvae", s.larvae);
+  r.require_range("larvae", static_cast<double>(n), 1, 1e8, "particles");
+  s.larvae = static_cast<int>(n);
+  s.depth_m = r.number("depth_m", s.depth_m);
+  r.require_range("depth_m", s.depth_m, 0, 11000, "metres");
+  r.finish();
+  return s;
+}
+
 void check_top_level(const toml::table& root, const Context& ctx) {
   for (auto&& [key, value] : root) {
     const std::string name(key.str());
@@ -297,7 +400,7 @@ void check_top_level(const toml::table& root, const Context& ctx) {
     throw InputError(location_text(ctx.file, key.source()) + ": unknown section [" + name + "]" +
                      (hint.empty() ? "" : " (did you mean [" + hint + "]?)") +
                      "; known sections: study, currents, reefs, spawning, larvae, motion, "
-                     "outputs, connectivity");
+                     "outputs, connectivity, tracks, backward");
   }
 }
 
@@ -343,6 +446,8 @@ Study load_study_text(const std::string& text, const fs::path& source_name,
   s.motion = read_motion(section_table(root, "motion", ctx), ctx, where);
   s.outputs = read_outputs(section_table(root, "outputs", ctx), ctx, where);
   s.connectivity = read_connectivity(section_table(root, "connectivity", ctx), ctx, where);
+  s.tracks = read_tracks(section_table(root, "tracks", ctx), ctx, where);
+  s.backward = read_backward(section_table(root, "backward", ctx), ctx, where);
   return s;
 }
 

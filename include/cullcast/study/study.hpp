@@ -64,6 +64,22 @@ struct LarvaeSettings {
   double weibull_scale_days = 10.0; // Weibull scale lambda, days
   std::string mortality_as = "weight";  // weight (decay) | random (death draws)
   double settle_rate_per_day = std::numeric_limits<double>::infinity();  // inf = settle on first reef
+  // Environment (docs/methods.md "Temperature and food"); "auto" = on when the
+  // currents carry the field, "off" = ignored.
+  std::string temperature_effect = "auto";  // auto | off
+  double reference_temperature_c = 28.0;    // precompetent/competent days hold at this temperature, deg C
+  double development_q10 = 5.95;            // development-rate factor per +10 deg C (dimensionless)
+  std::string food_effect = "auto";         // auto | off
+  double food_saturation_mg_m3 = 3.0;       // chlorophyll above which food no longer helps, mg m-3 (= ug/L)
+  double food_odds_per_doubling = 8.0;      // odds of completing development per doubling of chlorophyll
+  double completion_at_saturation = 0.9;    // chance of completing development at saturating food (0..1)
+};
+
+// One row of an age-dependent depth band (ontogenetic migration); linear between rows.
+struct DepthStage {
+  double age_days = 0;   // larval age, days
+  double top_m = 0;      // shallowest preferred depth, metres positive down
+  double bottom_m = 0;   // deepest preferred depth, metres positive down
 };
 
 struct MotionSettings {
@@ -73,6 +89,34 @@ struct MotionSettings {
   std::string earth = "sphere";  // sphere | wgs84 (metres <-> degrees)
   double earth_radius_m = 6371000.0;  // sphere radius when earth = "sphere"
   std::string land = "hold";     // hold (undo the step) | strand (particle stops): a step ending on land
+  // Depth behaviour (docs/methods.md "Depth").
+  std::string depth = "fixed";   // fixed | band | 3d
+  double band_top_m = 0.0;       // band: shallowest depth, metres positive down
+  double band_bottom_m = 10.0;   // band: deepest depth, metres positive down
+  double kv_m2_s = 0.0;          // vertical eddy diffusivity when not read from a field, m2 s-1
+  std::vector<DepthStage> depth_by_age;  // optional band by age; empty = none
+  double swim_m_s = 0.001;       // vertical swimming speed towards the band, m s-1
+  // Varying diffusivity (docs/methods.md "Diffusion").
+  std::string kh_from = "constant";  // constant (kh_m2_s) | field | smagorinsky
+  std::string kv_from = "constant";  // constant (kv_m2_s) | field
+  std::filesystem::path diffusivity_file;  // NetCDF holding Kh/Kv; empty = the first currents file
+  std::string kh_variable;       // empty = by standard_name ocean_tracer_xy_laplacian_diffusivity
+  std::string kv_variable;       // empty = by standard_name ocean_vertical_tracer_diffusivity
+  double smagorinsky_c = 0.1;    // Smagorinsky coefficient (dimensionless)
+};
+
+struct TrackSettings {
+  bool enabled = false;          // write tracks.nc
+  int every_particle = 100;      // keep every k-th particle of each source
+  int every_steps = 6;           // one sample every m steps
+};
+
+struct BackwardSettings {
+  std::string sink;              // reef id whose arrivals are traced back; empty = no backward run
+  CivilTime arrival;             // UTC, when the larvae reach the sink
+  double hours = 0.0;            // arrivals spread over this window
+  int larvae = 1000;             // particles released on the sink
+  double depth_m = 0.0;          // release depth, metres positive down
 };
 
 struct OutputSettings {
@@ -108,6 +152,8 @@ struct Study {
   MotionSettings motion;
   OutputSettings outputs;
   ConnectivitySettings connectivity;
+  TrackSettings tracks;
+  BackwardSettings backward;
   std::vector<std::string> overrides;   // --set items applied, for provenance
 };
 
