@@ -12,6 +12,13 @@ void ParticleSet::resize(std::size_t n) {
   index.assign(n, 0);
   fate.assign(n, Fate::waiting);
   reef.assign(n, -1);
+  development_s.clear();
+  food_log2_s.clear();
+}
+
+void ParticleSet::enable_development() {
+  development_s.assign(size(), 0.0f);
+  food_log2_s.assign(size(), 0.0f);
 }
 
 }  // namespace cullcast::drift

@@ -22,6 +22,13 @@
 //  - then ageing; mortality (weight decay or a death draw); settlement when
 //    competent and over a reef at the end of the step; death when older than
 //    the end of competency.
+//  - with StepExtras (step_extras.hpp): varying Kh replaces the constant-Kh
+//    walk (drift-corrected, Visser 1997); the depth moves after the
+//    horizontal step (fixed/band/3-D, docs/methods.md "Depth"; the horizontal
+//    RK stages use the depth at the step's start); with temperature/food,
+//    competency and the end of competency follow the development age, and
+//    development is completed with the food-dependent probability when the
+//    larva reaches competency (weight factor, or a draw under random deaths).
 #include <cmath>
 #include <cstdint>
 
@@ -31,6 +38,7 @@
 #include "cullcast/drift/integrator.hpp"
 #include "cullcast/drift/larval_clock.hpp"
 #include "cullcast/drift/particles.hpp"
+#include "cullcast/drift/step_extras.hpp"
 
 namespace cullcast::drift {
 
@@ -57,11 +65,11 @@ struct StepTally {
   double max_speed_m_s = 0;          // largest current speed met (for the Courant check)
 };
 
-template <class Flow, class Lookup>
+template <class Flow, class Lookup, class Extras>
 StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
                      const LarvalClock& clock, const EarthModel& earth, const Flow& flow,
                      const Lookup& reefs, const CounterRandom& rng,
-                     std::vector<std::uint8_t>& settled_now) {
+                     std::vector<std::uint8_t>& settled_now, const Extras& extras) {
   const double t0 = step * s.dt_s;                 // seconds since event start
   const double t0_model = s.event_start_s + t0;
   const double t1 = t0 + s.dt_s;
@@ -104,7 +112,15 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
     Vec2 x = advance(s.scheme, rate, t0_model, start, s.dt_s);
     max_speed = std::fmax(max_speed, speed_seen);
     const StreamId id{s.event, p.source[i], p.index[i]};
-    if (walk > 0) {
+    bool walked = false;
+    if constexpr (Extras::active) {
+      if (extras.kh_varies()) {
+        extras.walk_horizontal(flow, t0_model + s.dt_s, x, depth, metric,
+                               rng.normal2(id, step, Draw::diffusion), s.dt_s);
+        walked = true;
+      }
+    }
+    if (!walked && walk > 0) {
       const auto z = rng.normal2(id, step, Draw::diffusion);
       double east, north;
       metric.degrees_per_metre(x[1], east, north);
@@ -133,6 +149,40 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
 
     const double age0 = t0 - p.release_s[i];
     const double age1 = t1 - p.release_s[i];
+    double dev1 = age1;  // development age: the real age unless temperature/food act
+    if constexpr (Extras::active) {
+      if (extras.depth.moves()) {
+        const double r = rng.normal2(id, step, Draw::vertical)[0];
+        p.depth_m[i] = static_cast<float>(
+            extras.move_vertically(flow, t0_model + 0.5 * s.dt_s, s.dt_s, x, depth, age0, r));
+      }
+      if (extras.environment.any()) {
+        const double t_mid = t0_model + 0.5 * s.dt_s;
+        const double dev0 = p.development_s[i];
+        const double rate = extras.environment.temperature_on()
+                                ? extras.environment.development_rate(
+                                      extras.fields->temperature_c(t_mid, x[0], x[1], depth))
+                                : 1.0;
+        dev1 = dev0 + rate * s.dt_s;
+        p.development_s[i] = static_cast<float>(dev1);
+        if (extras.environment.food_on() && dev0 < clock.precompetent_s()) {
+          const double chl = extras.fields->chlorophyll_mg_m3(t_mid, x[0], x[1], depth);
+          p.food_log2_s[i] += static_cast<float>(extras.environment.food_log2(chl) * s.dt_s);
+          if (dev1 >= clock.precompetent_s()) {  // reaches competency now: development completed?
+            const double complete = extras.environment.completion_from_log2(p.food_log2_s[i] / age1);
+            if (clock.random_deaths()) {
+              if (rng.uniform2(id, step, Draw::mortality)[1] >= complete) {
+                p.fate[i] = Fate::died;
+                ++died;
+                continue;
+              }
+            } else {
+              p.weight[i] *= complete;
+            }
+          }
+        }
+      }
+    }
     const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
     if (clock.random_deaths()) {
       if (survive < 1.0 && rng.uniform2(id, step, Draw::mortality)[0] >= survive) {
@@ -143,7 +193,7 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
     } else {
       p.weight[i] *= survive;
     }
-    if (clock.competent(age1)) {
+    if (clock.competent(dev1)) {
       const int reef = reefs.reef_at(x[0], x[1]);
       if (reef >= 0 &&
           (settle_p >= 1.0 || rng.uniform2(id, step, Draw::settlement)[0] < settle_p)) {
@@ -154,7 +204,7 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
         continue;
       }
     }
-    if (age1 >= clock.max_age_s()) {
+    if (dev1 >= clock.max_age_s()) {
       p.fate[i] = Fate::died;
       ++died;
       continue;
@@ -172,6 +222,15 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
   tally.lost = lost;
   tally.max_speed_m_s = max_speed;
   return tally;
+}
+
+// The core step: 2-D, constant Kh, no environment effects.
+template <class Flow, class Lookup>
+StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
+                     const LarvalClock& clock, const EarthModel& earth, const Flow& flow,
+                     const Lookup& reefs, const CounterRandom& rng,
+                     std::vector<std::uint8_t>& settled_now) {
+  return drift_step(p, step, s, clock, earth, flow, reefs, rng, settled_now, NoExtras{});
 }
 
 }  // namespace cullcast::drift

@@ -26,9 +26,13 @@ struct ParticleSet {
   std::vector<std::uint32_t> index;  // index within the source (random streams)
   std::vector<Fate> fate;
   std::vector<std::int32_t> reef;    // settled reef, or -1
+  // Only with temperature/food effects (enable_development()); empty otherwise.
+  std::vector<float> development_s;  // development age, seconds at the reference temperature
+  std::vector<float> food_log2_s;    // integral of log2(chlorophyll mg m-3) dt before competency, s
 
   std::size_t size() const { return lon.size(); }
   void resize(std::size_t n);
+  void enable_development();  // sizes development_s and food_log2_s to size(), zeroed
   static constexpr std::size_t bytes_per_particle =
       2 * sizeof(double) + 2 * sizeof(float) + sizeof(double) + 2 * sizeof(std::uint32_t) +
       sizeof(Fate) + sizeof(std::int32_t);
