@@ -61,8 +61,19 @@ void write_reef_layer(const fs::path& path, const std::vector<reefs::Reef>& reef
                               CPLGetLastErrorMsg());
   };
   AtomicFile target(path);
+  // GDAL drivers check the extension (GeoPackage warns otherwise): write under
+  // the temporary name plus the target's extension, then move onto the
+  // temporary name that AtomicFile renames into place.
+  const fs::path scratch = target.temp_path().string() + path.extension().string();
+  struct Remove {
+    fs::path p;
+    ~Remove() {
+      std::error_code ignored;
+      fs::remove(p, ignored);
+    }
+  } cleanup{scratch};
   {
-    DatasetPtr ds(driver->Create(target.temp_path().c_str(), 0, 0, 0, GDT_Unknown, nullptr));
+    DatasetPtr ds(driver->Create(scratch.c_str(), 0, 0, 0, GDT_Unknown, nullptr));
     if (!ds) throw fail("cannot create the dataset");
     OGRSpatialReference wgs84;
     wgs84.SetWellKnownGeogCS("WGS84");
@@ -123,6 +134,7 @@ void write_reef_layer(const fs::path& path, const std::vector<reefs::Reef>& reef
     if (transaction && ds->CommitTransaction() != OGRERR_NONE) throw fail("cannot commit");
     ds->FlushCache();
   }  // dataset closed before the rename
+  fs::rename(scratch, target.temp_path());
   target.commit();
 }
 
