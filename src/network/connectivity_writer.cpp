@@ -172,7 +172,8 @@ void write_connectivity_netcdf(const fs::path& path, const Connectivity& c,
     };
     for (std::size_t e = 0; e < ne; ++e) {
       const EventMatrices& m = c.events[e];
-      if (ns > 0) v_released.putVar({e, 0}, {1, ns}, reinterpret_cast<const long long*>(m.released.data()));
+      const std::vector<long long> released(m.released.begin(), m.released.end());
+      if (ns > 0) v_released.putVar({e, 0}, {1, ns}, released.data());
       write_block(m.count, v_count, true, e, true);
       write_block(m.settled, v_settled, false, e, true);
       write_block(m.probability, v_prob, false, e, true);
