@@ -1,0 +1,88 @@
+#pragma once
+// Backward drift: where did larvae arriving on a sink reef come from?
+// Particles released on the sink at the arrival time are moved backwards in
+// time (negative step: the currents are sampled at earlier and earlier
+// times; the scheme is the forward one with dt < 0, so backward then forward
+// without diffusion returns to the start within the scheme's error). After a
+// backward time τ the particle shows where a larva of age τ would have been
+// spawned; τ in the competency window [precompetent, precompetent +
+// competent] makes that reef a candidate source. Each step in the window adds
+// survival S(τ)·|dt| to the reef under the particle: the origin density
+// assumes spawning equally likely at any time (no spawning calendar).
+//
+// Caveat (docs/methods.md "Backward drift"): diffusion is not time-reversible.
+// The random walk is applied backwards with the same variance, which gives
+// the right spread of possible origins for a constant Kh but not the exact
+// adjoint of the forward model (with varying Kh the drift term would change
+// sign); the result is a map of likely origins, not a connectivity column.
+#include <cmath>
+#include <cstdint>
+#include <vector>
+
+#include "cullcast/base/random.hpp"
+#include "cullcast/drift/drift_step.hpp"
+
+namespace cullcast::drift {
+
+struct BackwardTally {
+  std::vector<double> reef_weight;  // per reef: Σ S(τ)·|dt| over particles and steps, seconds
+  std::uint64_t lost = 0;           // left the grid backwards
+};
+
+// One backward step of length dt_s (> 0) ending (in backward time) at
+// t0_model − dt_s. Only `drifting` particles move; advection with the scheme
+// at −dt, then a Gaussian walk of variance 2·Kh·dt; land holds the step.
+template <class Flow>
+void backward_step(ParticleSet& p, std::uint32_t step, double t0_model_s, double dt_s, double kh_m2_s,
+                   Scheme scheme, const EarthModel& earth, const Flow& flow, const CounterRandom& rng,
+                   std::uint32_t event, BackwardTally& tally) {
+  const double walk = std::sqrt(2.0 * kh_m2_s * dt_s);
+  const std::int64_t n = static_cast<std::int64_t>(p.size());
+  std::uint64_t lost = 0;
+#pragma omp parallel for schedule(static) reduction(+ : lost)
+  for (std::int64_t i = 0; i < n; ++i) {
+    if (p.fate[i] != Fate::drifting) continue;
+    const double depth = p.depth_m[i];
+    const Vec2 start{p.lon[i], p.lat[i]};
+    const EarthModel::Local metric = earth.near(start[1]);
+    auto rate = [&](double t, const Vec2& x) noexcept -> Vec2 {
+      const currents::FlowSample f = flow.sample(t, x[0], x[1], depth);
+      double east, north;
+      metric.degrees_per_metre(x[1], east, north);
+      return {f.u_m_s * east, f.v_m_s * north};
+    };
+    Vec2 x = advance(scheme, rate, t0_model_s, start, -dt_s);
+    if (walk > 0) {
+      const auto z = rng.normal2({event, p.source[i], p.index[i]}, step, Draw::diffusion);
+      double east, north;
+      metric.degrees_per_metre(x[1], east, north);
+      x[0] += z[0] * walk * east;
+      x[1] += z[1] * walk * north;
+    }
+    const auto where = flow.status(x[0], x[1]);
+    if (where == currents::SampleStatus::outside) {
+      p.fate[i] = Fate::lost;
+      ++lost;
+      continue;
+    }
+    if (where == currents::SampleStatus::land) x = start;
+    p.lon[i] = x[0];
+    p.lat[i] = x[1];
+  }
+  tally.lost += lost;
+}
+
+// Adds the origin weight of the particles after backward time tau_s.
+template <class Lookup>
+void add_origins(const ParticleSet& p, double tau_s, double dt_s, const LarvalClock& clock,
+                 const Lookup& reefs, BackwardTally& tally) {
+  if (!clock.competent(tau_s)) return;
+  const double w = clock.survival(tau_s) * dt_s;
+  for (std::size_t i = 0; i < p.size(); ++i) {
+    if (p.fate[i] != Fate::drifting) continue;
+    const int r = reefs.reef_at(p.lon[i], p.lat[i]);
+    if (r >= 0 && static_cast<std::size_t>(r) < tally.reef_weight.size()) tally.reef_weight[r] += w * p.weight[i];
+  }
+}
+
+}  // namespace cullcast::drift
