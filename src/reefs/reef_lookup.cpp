@@ -185,6 +185,20 @@ ReefLookup::ReefLookup(const ReefSet& reefs, double buffer_m) : buffer_m_(std::m
     }
   }
 
+  // --- coarse occupancy: most look-ups are over open water, and this small
+  // table (one byte per kBlock x kBlock cells) answers them from cache -------
+  block_nx_ = (nx_ + kBlock - 1) / kBlock;
+  const int block_ny = (ny_ + kBlock - 1) / kBlock;
+  occupied_.assign(static_cast<std::size_t>(block_nx_) * static_cast<std::size_t>(block_ny), 0);
+  for (int r = 0; r < ny_; ++r) {
+    for (int c = 0; c < nx_; ++c) {
+      if (cells_[static_cast<std::size_t>(r) * static_cast<std::size_t>(nx_) + static_cast<std::size_t>(c)] != -1) {
+        occupied_[static_cast<std::size_t>(r / kBlock) * static_cast<std::size_t>(block_nx_) +
+                  static_cast<std::size_t>(c / kBlock)] = 1;
+      }
+    }
+  }
+
   // --- flatten candidate lists -----------------------------------------------
   list_start_.reserve(build_lists.size() + 1);
   list_start_.push_back(0);
@@ -237,6 +251,10 @@ int ReefLookup::reef_at(double lon, double lat) const noexcept {
   // Written so that NaN coordinates fail the test too.
   if (!(fx >= 0 && fy >= 0 && fx < nx_ && fy < ny_)) return -1;
   const int ix = static_cast<int>(fx), iy = static_cast<int>(fy);
+  if (!occupied_[static_cast<std::size_t>(iy / kBlock) * static_cast<std::size_t>(block_nx_) +
+                 static_cast<std::size_t>(ix / kBlock)]) {
+    return -1;
+  }
   const std::int32_t code = cells_[static_cast<std::size_t>(iy) * static_cast<std::size_t>(nx_) +
                                    static_cast<std::size_t>(ix)];
   if (code >= -1) return code;
@@ -257,7 +275,7 @@ std::size_t ReefLookup::memory_bytes() const noexcept {
   return cells_.capacity() * sizeof(std::int32_t) + list_start_.capacity() * sizeof(std::uint32_t) +
          lists_.capacity() * sizeof(std::int32_t) + reef_rows_.capacity() * sizeof(ReefRows) +
          bucket_start_.capacity() * sizeof(std::uint32_t) + edges_.capacity() * sizeof(Edge) +
-         2 * row_m_per_deg_lon_.capacity() * sizeof(double);
+         2 * row_m_per_deg_lon_.capacity() * sizeof(double) + occupied_.capacity();
 }
 
 }  // namespace cullcast::reefs

@@ -64,6 +64,9 @@ class ReefLookup {
   std::vector<std::uint32_t> bucket_start_;  // per (reef, row): edges_[start .. next start)
   std::vector<Edge> edges_;
   std::vector<double> row_m_per_deg_lon_, row_m_per_deg_lat_;  // LocalMetric at each row centre
+  static constexpr int kBlock = 16;    // cells per side of one coarse block
+  int block_nx_ = 0;                   // coarse blocks per row
+  std::vector<std::uint8_t> occupied_; // per coarse block: 1 if any cell is not "none"
 };
 
 }  // namespace cullcast::reefs
