@@ -40,6 +40,12 @@ void print_summary(std::ostream& out, const drift::DriftSummary& s) {
   out << "  settlement records: " << s.records_netcdf.string();
   if (!s.records_csv.empty()) out << " and " << s.records_csv.string();
   out << " (" << with_thousands(s.records) << " records)\n";
+  out << "  physics:" << s.physics << "\n";
+  if (!s.tracks_netcdf.empty()) {
+    out << "  tracks: " << s.tracks_netcdf.string() << " (" << with_thousands(s.track_count)
+        << " trajectories, " << with_thousands(s.track_samples) << " samples)\n";
+  }
+  if (!s.backward_csv.empty()) out << "  backward origins: " << s.backward_csv.string() << "\n";
 }
 
 }  // namespace
@@ -62,6 +68,7 @@ drift::DriftSummary run_disperse_stage(const CliContext& ctx, const study::Study
   drift::DriftSummary summary =
       drift::run_drift(study, field, reef_set, sources, [&](const drift::DriftProgress& p) { display(p); });
   display.finish();
+  if (!study.backward.sink.empty()) summary.backward_csv = drift::run_backward(study, field, reef_set);
   for (const auto& w : summary.warnings) ctx.err << "cullcast: warning: " << w << "\n";
   if (!ctx.quiet) print_summary(ctx.out, summary);
   return summary;

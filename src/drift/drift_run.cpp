@@ -1,11 +1,17 @@
 #include "cullcast/drift/drift_run.hpp"
 
 #include <chrono>
+#include <limits>
+#include <optional>
 #include <cmath>
 #include <sstream>
 
+#include "cullcast/base/atomic_file.hpp"
 #include "cullcast/base/error.hpp"
+#include "cullcast/currents/gridded_field.hpp"
+#include "cullcast/drift/backward_drift.hpp"
 #include "cullcast/drift/drift_step.hpp"
+#include "cullcast/drift/track_writer.hpp"
 #include "cullcast/reefs/reef_lookup.hpp"
 
 namespace cullcast::drift {
@@ -64,6 +70,79 @@ LogTables tables_for(const study::Study& study, const currents::CurrentField& fi
   return t;
 }
 
+// Fields for StepExtras in production: diffusivities and sea floor from
+// GriddedField, temperature and chlorophyll from the currents.
+struct FieldSources {
+  const currents::CurrentField* currents = nullptr;
+  std::optional<currents::GriddedField> kh_field, kv_field, floor;
+  double kh(double lon, double lat, double d) const noexcept {
+    return kh_field ? kh_field->sample(lon, lat, d) : std::nan("");
+  }
+  double kv(double lon, double lat, double d) const noexcept {
+    return kv_field ? kv_field->sample(lon, lat, d) : std::nan("");
+  }
+  double sea_floor_m(double lon, double lat) const noexcept {
+    return floor ? floor->sample(lon, lat, 0) : std::numeric_limits<double>::infinity();
+  }
+  double temperature_c(double t, double lon, double lat, double d) const noexcept {
+    return currents->sample_scalar(currents::ScalarKind::temperature, t, lon, lat, d);
+  }
+  double chlorophyll_mg_m3(double t, double lon, double lat, double d) const noexcept {
+    return currents->sample_scalar(currents::ScalarKind::chlorophyll, t, lon, lat, d);
+  }
+};
+
+// Builds the optional physics; `describe` lists what is on.
+StepExtras<FieldSources> make_extras(const study::Study& study, currents::CurrentField& field,
+                                     FieldSources& sources, std::string& describe) {
+  const auto& m = study.motion;
+  StepExtras<FieldSources> x;
+  sources.currents = &field;
+  x.fields = &sources;
+  x.kh_m2_s = m.kh_m2_s;
+  x.kv_m2_s = m.kv_m2_s;
+  x.smagorinsky_c = m.smagorinsky_c;
+  x.spacing_m = field.grid().mean_spacing_m > 0 ? field.grid().mean_spacing_m : 1000.0;
+  x.depth = DepthRule(m);
+  const std::filesystem::path dfile =
+      m.diffusivity_file.empty() ? std::filesystem::path(field.files().front()) : m.diffusivity_file;
+  if (m.kh_from == "field") {
+    sources.kh_field = currents::GriddedField::read(dfile, m.kh_variable, "ocean_tracer_xy_laplacian_diffusivity");
+    x.kh_mode = KhMode::field;
+    describe += " Kh from " + sources.kh_field->description() + ";";
+  } else if (m.kh_from == "smagorinsky") {
+    x.kh_mode = KhMode::smagorinsky;
+    describe += " Kh Smagorinsky C=" + std::to_string(m.smagorinsky_c) + ";";
+  }
+  if (m.depth == "3d" && m.kv_from == "field") {
+    sources.kv_field = currents::GriddedField::read(dfile, m.kv_variable, "ocean_vertical_tracer_diffusivity");
+    x.kv_mode = KvMode::field;
+    describe += " Kv from " + sources.kv_field->description() + ";";
+  }
+  if (m.depth == "3d") {
+    sources.floor = currents::GriddedField::sea_floor(field.files().front(), field.variables().u);
+    describe += " depth 3d (w " + std::string(field.variables().w.empty() ? "absent" : "used") + ");";
+  } else if (m.depth == "band") {
+    describe += " depth band;";
+  }
+  if (!m.depth_by_age.empty()) describe += " depth by age;";
+  const bool temperature = study.larvae.temperature_effect == "auto" &&
+                           field.has_scalar(currents::ScalarKind::temperature);
+  const bool food = study.larvae.food_effect == "auto" && field.has_scalar(currents::ScalarKind::chlorophyll);
+  if (temperature) field.enable_scalar(currents::ScalarKind::temperature);
+  if (food) field.enable_scalar(currents::ScalarKind::chlorophyll);
+  x.environment = LarvalEnvironment(study.larvae, temperature, food);
+  if (temperature) describe += " temperature-dependent development;";
+  if (food) describe += " food-dependent completion;";
+  return x;
+}
+
+bool needs_extras(const study::Study& study) {
+  const auto& m = study.motion;
+  return m.depth != "fixed" || !m.depth_by_age.empty() || m.kh_from != "constant" ||
+         study.larvae.temperature_effect == "auto" || study.larvae.food_effect == "auto";
+}
+
 }  // namespace
 
 void check_time_coverage(const study::Study& study, const currents::CurrentField& field) {
@@ -107,12 +186,28 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
   step.kh_m2_s = study.motion.kh_m2_s;
   step.scheme = scheme_from_name(study.motion.scheme);
   step.land = study.motion.land == "strand" ? LandRule::strand : LandRule::hold;
+  FieldSources field_sources;
+  std::string physics;
+  const StepExtras<FieldSources> extras = make_extras(study, field, field_sources, physics);
+  // The core path (2-D, constant Kh) unless some optional physics is really on.
+  const bool use_extras = needs_extras(study) &&
+                          (extras.depth.moves() || extras.kh_varies() || extras.environment.any());
+  summary.physics = use_extras ? physics : " 2-D, constant Kh";
 
   fs::create_directories(study.outputs.dir);
   summary.records_netcdf = study.outputs.dir / "settlement.nc";
   if (study.outputs.settlement_csv) summary.records_csv = study.outputs.dir / "settlement.csv";
   SettlementLog log(summary.records_netcdf, summary.records_csv,
                     tables_for(study, field, reefs, sources));
+  std::unique_ptr<TrackWriter> tracks;
+  if (study.tracks.enabled) {
+    summary.tracks_netcdf = study.outputs.dir / "tracks.nc";
+    std::vector<std::string> ids;
+    for (const auto& src : sources) ids.push_back(src.id);
+    tracks = std::make_unique<TrackWriter>(summary.tracks_netcdf, ids, field.calendar(),
+                                           study.tracks.every_particle, study.tracks.every_steps,
+                                           tables_for(study, field, reefs, sources).attributes);
+  }
 
   const auto stage_start = Clock::now();
   std::vector<std::uint8_t> settled_now;
@@ -123,6 +218,8 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     step.event_start_s = calendar.to_seconds(event.start);
     ParticleSet p = particles_from(reefs::plan_release(reefs, sources, event, step.event,
                                                        study.reefs, study.study.seed));
+    if (extras.environment.any()) p.enable_development();
+    if (tracks) tracks->begin_event(step.event, p);
     std::uint64_t off_water = 0;
     for (std::size_t i = 0; i < p.size(); ++i) {
       if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) ++off_water;
@@ -142,7 +239,10 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     for (std::uint32_t k = 0; k < steps; ++k) {
       const double t0 = step.event_start_s + k * step.dt_s;
       field.prepare(t0, t0 + step.dt_s);
-      const StepTally tally = drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
+      const StepTally tally =
+          use_extras ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
+                     : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
+      if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);
       es.particle_steps += tally.particle_steps;
       summary.land_contacts += tally.land_contacts;
       const double spacing = field.grid().min_spacing_m;
@@ -227,7 +327,81 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
   }
   log.commit();
   summary.records = log.records_written();
+  if (tracks) {
+    tracks->commit();
+    summary.track_samples = tracks->samples();
+    summary.track_count = tracks->trajectories();
+  }
   return summary;
+}
+
+fs::path run_backward(const study::Study& study, currents::CurrentField& field,
+                      const reefs::ReefSet& reefs) {
+  const auto& b = study.backward;
+  int sink = -1;
+  for (std::size_t r = 0; r < reefs.reefs().size(); ++r) {
+    if (reefs.reefs()[r].id == b.sink) sink = static_cast<int>(r);
+  }
+  if (sink < 0) {
+    throw InputError(study.scenario_file.string() + ": [backward] sink: no reef with id \"" + b.sink +
+                     "\" in " + study.reefs.layer.string());
+  }
+  const auto& calendar = field.calendar();
+  const double arrival = calendar.to_seconds(b.arrival) + b.hours * 3600.0;  // last arrival
+  const double span = b.hours * 3600.0 + (study.larvae.precompetent_days + study.larvae.competent_days) * 86400.0;
+  if (arrival > field.time_end_s() || arrival - span < field.time_begin_s()) {
+    throw InputError(study.scenario_file.string() + ": [backward] needs currents from " +
+                     describe_time(calendar, arrival - span) + " to " + describe_time(calendar, arrival) +
+                     ", but the currents files cover " + describe_time(calendar, field.time_begin_s()) +
+                     " to " + describe_time(calendar, field.time_end_s()));
+  }
+  // Release on the sink: the reef's own release plan, one source.
+  std::vector<reefs::ReleaseSource> sources;
+  for (const auto& src : reefs::release_sources(reefs, study)) {
+    if (src.reef_index == sink && src.kind == reefs::SourceKind::reef) sources.push_back(src);
+  }
+  if (sources.empty()) throw InputError("[backward] sink " + b.sink + ": no release source on this reef");
+  study::SpawningEvent event;
+  event.label = "backward from " + b.sink;
+  event.start = b.arrival;
+  event.larvae_per_reef = b.larvae;
+  event.depth_m = b.depth_m;
+  ParticleSet p = particles_from(reefs::plan_release(reefs, sources, event, 0xFFFFu, study.reefs, study.study.seed));
+  for (std::size_t i = 0; i < p.size(); ++i) p.fate[i] = Fate::drifting;
+  const LarvalClock clock(study.larvae);
+  const EarthModel earth = EarthModel::from_name(study.motion.earth, study.motion.earth_radius_m);
+  const reefs::ReefLookup lookup(reefs, study.reefs.settle_buffer_m);
+  const CounterRandom rng(study.study.seed);
+  const double dt = study.motion.dt_minutes * 60.0;
+  const Scheme scheme = scheme_from_name(study.motion.scheme);
+  BackwardTally tally;
+  tally.reef_weight.assign(reefs.reefs().size(), 0.0);
+  // All particles start at the arrival time (the window spreads them in age, not position).
+  const double start = calendar.to_seconds(b.arrival);
+  const auto steps = static_cast<std::uint32_t>(std::ceil(clock.max_age_s() / dt - 1e-9));
+  for (std::uint32_t k = 0; k < steps; ++k) {
+    const double t0 = start - k * dt;
+    field.prepare(t0 - dt, t0);
+    backward_step(p, k, t0, dt, study.motion.kh_m2_s, scheme, earth, field, rng, 0xFFFFu, tally);
+    add_origins(p, (k + 1) * dt, dt, clock, lookup, tally);
+  }
+  double total = 0;
+  for (double w : tally.reef_weight) total += w;
+  const fs::path out = study.outputs.dir / "backward_origins.csv";
+  fs::create_directories(study.outputs.dir);
+  AtomicFile file(out);
+  auto& o = file.stream();
+  o << "# backward drift from sink " << b.sink << " arriving " << format_iso8601(b.arrival)
+    << "; weight = sum of survival x seconds in the competency window; diffusion is not time-reversible\n";
+  o << "reef_id,weight_s,share\n";
+  o.precision(10);
+  for (std::size_t r = 0; r < tally.reef_weight.size(); ++r) {
+    if (tally.reef_weight[r] <= 0) continue;
+    o << reefs.reefs()[r].id << "," << tally.reef_weight[r] << "," << (total > 0 ? tally.reef_weight[r] / total : 0)
+      << "\n";
+  }
+  file.commit();
+  return out;
 }
 
 }  // namespace cullcast::drift

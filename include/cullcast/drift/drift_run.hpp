@@ -44,6 +44,11 @@ struct DriftSummary {
   double max_courant = 0;             // largest |u|·dt/Δx met
   std::uint64_t records = 0;
   std::filesystem::path records_netcdf, records_csv;
+  std::filesystem::path tracks_netcdf;   // empty without [tracks]
+  std::uint64_t track_samples = 0;
+  std::size_t track_count = 0;
+  std::filesystem::path backward_csv;    // empty without [backward]
+  std::string physics;                   // the optional physics in effect (for the summary)
   std::vector<std::string> warnings;
 };
 
@@ -56,5 +61,12 @@ void check_time_coverage(const study::Study& study, const currents::CurrentField
 DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                        const reefs::ReefSet& reefs, const std::vector<reefs::ReleaseSource>& sources,
                        const ProgressFn& progress = {});
+
+// Backward drift from [backward] sink (backward_drift.hpp): writes
+// <outputs>/backward_origins.csv (reef_id, weight, share) and returns its path.
+// Throws InputError when the sink is not a reef id or the currents do not
+// reach back far enough.
+std::filesystem::path run_backward(const study::Study& study, currents::CurrentField& field,
+                                   const reefs::ReefSet& reefs);
 
 }  // namespace cullcast::drift
