@@ -157,7 +157,7 @@ struct CurrentField::Impl {
       try {
         open_file = std::make_unique<NcFile>(files[f].path, NcFile::read);
       } catch (const NcException& e) {
-        throw InputError("cannot open currents file " + quote(files[f].path) + ": " + e.what());
+        throw InputError("cannot open currents file " + quote(files[f].path) + ": " + nc::why(e));
       }
       open_file_index = f;
     }
@@ -182,7 +182,7 @@ struct CurrentField::Impl {
       var.getVar(start, count, buffer.data());
     } catch (const NcException& e) {
       throw InputError("cannot read variable " + quote(dec.name) + " at time index " + std::to_string(ref.index) +
-                       " in " + quote(fi.path) + " (file truncated or damaged?): " + e.what());
+                       " in " + quote(fi.path) + " (file truncated or damaged?): " + nc::why(e));
     }
     out.resize(n);
     const std::ptrdiff_t nx = geo.nx, ny = geo.ny, nz = geo.nz;
@@ -381,7 +381,7 @@ std::vector<double> read_all(const NcVar& var, const std::string& path) {
   try {
     if (n) var.getVar(v.data());
   } catch (const NcException& e) {
-    throw InputError("cannot read variable " + quote(var.getName()) + " in " + quote(path) + ": " + e.what());
+    throw InputError("cannot read variable " + quote(var.getName()) + " in " + quote(path) + ": " + nc::why(e));
   }
   if (auto fill = nc::num_att(var, "_FillValue")) {
     for (size_t i = 0; i < n; ++i)
@@ -444,7 +444,7 @@ Discovered discover(const std::string& path, const study::CurrentsSettings& sett
     fp = std::make_unique<NcFile>(path, NcFile::read);
   } catch (const NcException& e) {
     throw InputError("cannot open currents file " + quote(path) +
-                     ": not a readable NetCDF file (truncated, damaged or another format): " + e.what());
+                     ": not a readable NetCDF file (truncated, damaged or another format): " + nc::why(e));
   }
   const NcFile& f = *fp;
   bool found = false;
@@ -605,7 +605,7 @@ Discovered discover(const std::string& path, const study::CurrentsSettings& sett
         x->getVar(start, count, &probe);
       } catch (const NcException& e) {
         throw InputError("cannot read variable " + quote(x->getName()) + " (last time index) in " + quote(path) +
-                         ": file truncated or damaged: " + e.what());
+                         ": file truncated or damaged: " + nc::why(e));
       }
     }
   }

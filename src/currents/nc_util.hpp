@@ -38,3 +38,14 @@ inline std::string lower(std::string s) {
 }
 
 }  // namespace cullcast::currents::nc
+
+namespace cullcast::currents::nc {
+// The library's message without the "file: ncFile.cpp line: N" suffix netCDF-C++ adds.
+inline std::string why(const netCDF::exceptions::NcException& e) {
+  std::string s = e.what();
+  const auto p = s.find("\nfile:");
+  if (p != std::string::npos) s.erase(p);
+  while (!s.empty() && (s.back() == '\n' || s.back() == ' ')) s.pop_back();
+  return s;
+}
+}  // namespace cullcast::currents::nc
