@@ -4,6 +4,10 @@
 // (~1 km) with 1 million particles. Reports particle-steps per second for 1
 // and 2 threads, bytes per particle and the bytes of current frames held.
 //
+// Then, on 1 thread, the optional physics of issue 6: varying Kh
+// (Smagorinsky, drift-corrected walk), 3-D depth (Kv walk, reflection) and
+// both, to report their cost relative to the core path.
+//
 //   bench_drift [particles=1000000] [steps=36]
 #include <omp.h>
 
@@ -104,6 +108,14 @@ reefs::ReefSet make_reefs() {
   return reefs::ReefSet(std::move(list));
 }
 
+struct BenchFields {
+  double kh(double, double, double) const noexcept { return 1.0; }
+  double kv(double, double, double) const noexcept { return 0.001; }
+  double sea_floor_m(double, double) const noexcept { return 50.0; }
+  double temperature_c(double, double, double, double) const noexcept { return 28.0; }
+  double chlorophyll_mg_m3(double, double, double, double) const noexcept { return 1.0; }
+};
+
 }  // namespace
 
 int main(int argc, char** argv) {
@@ -162,6 +174,50 @@ int main(int argc, char** argv) {
     }
     std::printf("threads %d: %.1f million particle-steps/s (%llu particle-steps in %.2f s)\n", threads,
                 particle_steps / busy / 1e6, static_cast<unsigned long long>(particle_steps), busy);
+  }
+  {
+    omp_set_num_threads(1);
+    const BenchFields fields;
+    auto timed = [&](const char* name, const auto& extras) {
+      drift::ParticleSet p;
+      p.resize(n);
+      for (std::size_t i = 0; i < n; ++i) {
+        p.lon[i] = kLon0 + (6 + (i % (kNx - 12))) * kStep;
+        p.lat[i] = kLat0 + (6 + (i / (kNx - 12)) % (kNy - 12)) * kStep + 0.3 * kStep;
+        p.depth_m[i] = 5.0f;
+        p.index[i] = static_cast<std::uint32_t>(i);
+        if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) p.fate[i] = drift::Fate::lost;
+      }
+      std::vector<std::uint8_t> now;
+      std::uint64_t particle_steps = 0;
+      double busy = 0;
+      for (std::uint32_t k = 0; k < steps; ++k) {
+        const double t0 = s.event_start_s + k * s.dt_s;
+        field.prepare(t0, t0 + s.dt_s);
+        const auto start = std::chrono::steady_clock::now();
+        const auto tally = drift::drift_step(p, k, s, clock, earth, field, lookup, rng, now, extras);
+        busy += std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+        particle_steps += tally.particle_steps;
+      }
+      std::printf("1 thread, %-28s %.2f million particle-steps/s\n", name, particle_steps / busy / 1e6);
+    };
+    timed("core path (NoExtras):", drift::NoExtras{});
+    drift::StepExtras<BenchFields> smag;
+    smag.fields = &fields;
+    smag.kh_mode = drift::KhMode::smagorinsky;
+    smag.spacing_m = 1000.0;
+    timed("Smagorinsky Kh (Visser):", smag);
+    drift::StepExtras<BenchFields> field_kh = smag;
+    field_kh.kh_mode = drift::KhMode::field;
+    timed("Kh field (Visser):", field_kh);
+    study::MotionSettings m3;
+    m3.depth = "3d";
+    drift::StepExtras<BenchFields> three_d;
+    three_d.fields = &fields;
+    three_d.depth = drift::DepthRule(m3);
+    three_d.kh_m2_s = 1.0;
+    three_d.kv_m2_s = 0.001;
+    timed("3-D (w, Kv, reflection):", three_d);
   }
   std::printf("memory: %zu bytes per particle; current frames held: %.1f MB\n",
               drift::ParticleSet::bytes_per_particle, field.frame_bytes() / 1e6);
