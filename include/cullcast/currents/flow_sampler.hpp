@@ -11,6 +11,7 @@
 #include <cmath>
 #include <cstddef>
 #include <cstdint>
+#include <cstring>
 
 namespace cullcast::currents {
 
@@ -22,6 +23,15 @@ struct CellHit {
   double fx = 0, fy = 0;
   bool inside = false;
 };
+
+// Four floats as one SIMD value (GCC/Clang vector extension: SSE on x86-64,
+// NEON on ARM, plain code elsewhere).
+typedef float Float4 __attribute__((vector_size(16)));
+inline Float4 load4(const float* p) noexcept {
+  Float4 v;
+  __builtin_memcpy(&v, p, sizeof v);
+  return v;
+}
 
 class CurvilinearLocator;  // cell search on 2-D lon/lat arrays (curvilinear_grid.hpp)
 bool locate_curvilinear(const CurvilinearLocator& locator, double lon, double lat, CellHit& hit) noexcept;
