@@ -19,7 +19,7 @@ namespace {
 
 const std::vector<std::string> kSections = {"study",  "currents", "reefs",   "spawning",
                                             "larvae", "motion",   "outputs", "connectivity",
-                                            "tracks", "backward"};
+                                            "tracks", "backward", "cull"};
 
 struct Context {
   std::string file;  // as shown in messages
@@ -392,6 +392,71 @@ BackwardSettings read_backward(const toml::table* t, const Context& ctx, toml::s
   return s;
 }
 
+CullSettings read_cull(const toml::table* t, const Context& ctx, toml::source_region where) {
+  SectionReader r(t, "cull", ctx.file, where);
+  CullSettings s;
+  s.present = t != nullptr;
+  auto positive = [&](const char* key, double& v, const char* unit) {
+    v = r.number(key, v);
+    r.require_positive(key, v, unit);
+  };
+  auto fraction = [&](const char* key, double& v) {
+    v = r.number(key, v);
+    r.require_range(key, v, 0, 1, "fraction");
+  };
+  s.vessel_days = r.number("vessel_days", s.vessel_days);
+  r.require_range("vessel_days", s.vessel_days, 0, 1e6, "vessel-days");
+  positive("effort_step_days", s.effort_step_days, "vessel-days");
+  s.max_days_per_reef = r.number("max_days_per_reef", s.max_days_per_reef);
+  r.require_range("max_days_per_reef", s.max_days_per_reef, 0, 1e6, "vessel-days");
+  positive("efficiency_ha_per_day", s.efficiency_ha_per_day, "ha per vessel-day");
+  const bool has_lon = r.has("home_lon"), has_lat = r.has("home_lat");
+  if (has_lon != has_lat) {
+    r.fail(has_lon ? "home_lat" : "home_lon", "the home port needs both home_lon and home_lat");
+  }
+  s.home_lon = r.number("home_lon", s.home_lon);
+  s.home_lat = r.number("home_lat", s.home_lat);
+  if (has_lon) {
+    r.require_range("home_lon", s.home_lon, -180, 180, "degrees east");
+    r.require_range("home_lat", s.home_lat, -90, 90, "degrees north");
+  }
+  positive("speed_knots", s.speed_knots, "knots");
+  s.hours_per_day = r.number("hours_per_day", s.hours_per_day);
+  r.require_range("hours_per_day", s.hours_per_day, 1e-3, 24, "hours");
+  s.priority_threshold = r.number("priority_threshold", s.priority_threshold);
+  r.require_range("priority_threshold", s.priority_threshold, 0, 1, "priority");
+  const std::int64_t horizon = r.integer("horizon_seasons", s.horizon_seasons);
+  r.require_range("horizon_seasons", static_cast<double>(horizon), 1, 50, "seasons");
+  s.horizon_seasons = static_cast<int>(horizon);
+  const std::int64_t maturation = r.integer("maturation_seasons", s.maturation_seasons);
+  r.require_range("maturation_seasons", static_cast<double>(maturation), 1, 20, "seasons");
+  s.maturation_seasons = static_cast<int>(maturation);
+  fraction("juvenile_mortality_per_day", s.juvenile_mortality_per_day);
+  s.early_juvenile_days = r.number("early_juvenile_days", s.early_juvenile_days);
+  r.require_range("early_juvenile_days", s.early_juvenile_days, 0, 365 * s.maturation_seasons, "days");
+  fraction("later_juvenile_survival_per_year", s.later_juvenile_survival_per_year);
+  fraction("adult_survival_per_year", s.adult_survival_per_year);
+  fraction("female_fraction", s.female_fraction);
+  positive("eggs_per_female", s.eggs_per_female, "eggs per season");
+  positive("reference_diameter_cm", s.reference_diameter_cm, "cm");
+  s.fecundity_exponent = r.number("fecundity_exponent", s.fecundity_exponent);
+  r.require_range("fecundity_exponent", s.fecundity_exponent, 0, 10, "dimensionless");
+  positive("default_diameter_cm", s.default_diameter_cm, "cm");
+  positive("open_class_width_cm", s.open_class_width_cm, "cm");
+  fraction("fertilisation_peak", s.fertilisation_peak);
+  positive("fertilisation_scale_m", s.fertilisation_scale_m, "metres");
+  positive("aggregation_density_per_ha", s.aggregation_density_per_ha, "adults per hectare");
+  s.method = r.text("method", s.method);
+  r.require_one_of("method", s.method, {"auto", "exact", "greedy"});
+  const std::int64_t max_reefs = r.integer("exact_max_reefs", s.exact_max_reefs);
+  r.require_range("exact_max_reefs", static_cast<double>(max_reefs), 0, 24, "reefs");
+  s.exact_max_reefs = static_cast<int>(max_reefs);
+  s.exact_max_plans = r.number("exact_max_plans", s.exact_max_plans);
+  r.require_range("exact_max_plans", s.exact_max_plans, 0, 1e9, "plans");
+  r.finish();
+  return s;
+}
+
 void check_top_level(const toml::table& root, const Context& ctx) {
   for (auto&& [key, value] : root) {
     const std::string name(key.str());
@@ -400,7 +465,7 @@ void check_top_level(const toml::table& root, const Context& ctx) {
     throw InputError(location_text(ctx.file, key.source()) + ": unknown section [" + name + "]" +
                      (hint.empty() ? "" : " (did you mean [" + hint + "]?)") +
                      "; known sections: study, currents, reefs, spawning, larvae, motion, "
-                     "outputs, connectivity, tracks, backward");
+                     "outputs, connectivity, tracks, backward, cull");
   }
 }
 
@@ -448,6 +513,7 @@ Study load_study_text(const std::string& text, const fs::path& source_name,
   s.connectivity = read_connectivity(section_table(root, "connectivity", ctx), ctx, where);
   s.tracks = read_tracks(section_table(root, "tracks", ctx), ctx, where);
   s.backward = read_backward(section_table(root, "backward", ctx), ctx, where);
+  s.cull = read_cull(section_table(root, "cull", ctx), ctx, where);
   return s;
 }
 

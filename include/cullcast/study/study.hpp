@@ -141,6 +141,45 @@ struct ConnectivitySettings {
   std::vector<std::string> attribute;            // sink reef / aggregation ids for source attribution
 };
 
+// Cull prioritisation (stage `prioritise`); methods and sources of every
+// default in docs/methods.md, "Cull prioritisation".
+struct CullSettings {
+  bool present = false;              // the scenario has a [cull] section (`run` chains the stage)
+  // Budget and effort (vessel-days: one vessel with its dive team for one working day).
+  double vessel_days = 10.0;         // total budget: culling effort plus travel, vessel-days
+  double effort_step_days = 0.5;     // effort is allocated in steps of this, vessel-days
+  double max_days_per_reef = 5.0;    // cap of culling effort on one reef, vessel-days
+  double efficiency_ha_per_day = 20.0;  // removed = 1 - exp(-effort * efficiency / area), ha per vessel-day
+  // Travel from the home port and between reefs; NaN port = travel not counted.
+  double home_lon = std::numeric_limits<double>::quiet_NaN();  // degrees east
+  double home_lat = std::numeric_limits<double>::quiet_NaN();  // degrees north
+  double speed_knots = 15.0;         // cruising speed, knots (1 knot = 1.852 km/h)
+  double hours_per_day = 10.0;       // working hours in one vessel-day, hours
+  // Priority reefs: weight w_j = priority of reef j when above the threshold.
+  double priority_threshold = 0.0;   // dimensionless 0..1
+  // Projection over seasons (one season = one year).
+  int horizon_seasons = 1;           // seasons of recruitment counted (1 = this season only)
+  int maturation_seasons = 2;        // settler -> spawner delay, seasons
+  double juvenile_mortality_per_day = 0.078;  // early juveniles, per day
+  double early_juvenile_days = 30.0;          // days the early-juvenile rate applies
+  double later_juvenile_survival_per_year = 0.5;  // survival after that until maturity, per year
+  double adult_survival_per_year = 0.8;       // adults not culled, per year
+  // Larval output.
+  double female_fraction = 0.5;              // share of adults that are female
+  double eggs_per_female = 33.5e6;           // eggs per female per season at reference_diameter_cm
+  double reference_diameter_cm = 39.2;       // diameter of that female, cm
+  double fecundity_exponent = 3.0;           // eggs proportional to diameter^exponent
+  double default_diameter_cm = 39.2;         // adults' diameter when the survey has no sizes, cm
+  double open_class_width_cm = 10.0;         // width assumed for an open size class ("25cm_plus"), cm
+  double fertilisation_peak = 0.86;          // fertilisation at zero distance between spawners (0..1)
+  double fertilisation_scale_m = 46.9;       // e-folding distance of fertilisation, metres
+  double aggregation_density_per_ha = 1000.0;  // spawner density inside an aggregation, per hectare
+  // Optimisation.
+  std::string method = "auto";       // auto | exact | greedy
+  int exact_max_reefs = 14;          // exact with travel: at most this many candidate reefs
+  double exact_max_plans = 2.0e5;    // exact with horizon > 1: at most this many effort plans
+};
+
 struct Study {
   std::filesystem::path scenario_file;  // absolute
   std::filesystem::path base_dir;       // folder that relative paths resolve against
@@ -154,6 +193,7 @@ struct Study {
   ConnectivitySettings connectivity;
   TrackSettings tracks;
   BackwardSettings backward;
+  CullSettings cull;
   std::vector<std::string> overrides;   // --set items applied, for provenance
 };
 
