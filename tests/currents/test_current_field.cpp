@@ -264,3 +264,32 @@ TEST_CASE("streaming: frame memory stays bounded over a long multi-file set", "[
   CHECK(peak <= (3 * 4 + 2) * sizeof(float) * nodes + nodes);
   CHECK(peak > 0);
 }
+
+TEST_CASE("upward velocity is discovered and interpolated like u and v", "[currents][grid]") {
+  ScratchDir dir;
+  RegularSpec s;
+  s.lon = {150.0, 150.5, 151.0};
+  s.lat = {-20.5, -20.0};
+  s.depth = {0, 20};
+  s.time = {0, 1};
+  s.u = [](double, double, double, double) { return 0.1; };
+  // w(t, z, lat, lon) = 1e-3 * (lon - 150) + 1e-4 * z + 1e-3 * t, written as extra CDL.
+  s.extra_variables =
+      "  float w(time, depth, lat, lon) ;\n    w:standard_name = \"upward_sea_water_velocity\" ;\n    w:units = \"cm s-1\" ;\n";
+  std::string data = "  w = ";
+  bool first = true;
+  for (double t : s.time)
+    for (double z : s.depth)
+      for (size_t j = 0; j < s.lat.size(); ++j)
+        for (double lon : s.lon) {
+          data += (first ? "" : ", ") + num(100.0 * (1e-3 * (lon - 150.0) + 1e-4 * z + 1e-3 * t));  // cm/s
+          first = false;
+        }
+  s.extra_data = data + " ;\n";
+  auto f = CurrentField::open_files({ncgen(dir, "w", regular_cdl(s))});
+  CHECK(f.variables().w == "w");
+  f.prepare(f.time_begin_s(), f.time_end_s());
+  const FlowSample smp = f.sample(f.time_begin_s() + 1800.0, 150.25, -20.3, 5.0);
+  CHECK(smp.w_m_s == Approx(1e-3 * 0.25 + 1e-4 * 5.0 + 1e-3 * 0.5).margin(1e-8));
+  CHECK(smp.u_m_s == Approx(0.1).margin(kTol_m_s));
+}
