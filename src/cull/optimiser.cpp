@@ -64,7 +64,8 @@ Knapsack knapsack(const std::vector<std::vector<double>>& gains, int K, int min_
       for (int l = min_level; l <= std::min(cap, k); ++l) {
         if (prev[k - l] == ninf) continue;
         const double v = prev[k - l] + gains[i][l];
-        if (v > best + 1e-12 * std::fabs(best)) best = v, arg = l;
+        // Ties keep the smaller effort.
+        if (best == ninf || v > best + 1e-12 * std::fabs(best)) best = v, arg = l;
       }
       cur[k] = best;
       choice[i][k] = arg;
