@@ -936,6 +936,13 @@ void CurrentField::prepare(double t0_s, double t1_s) {
     end = std::min(n - 1, b + static_cast<size_t>(m.frames_ahead));
   }
   const size_t last_interval = n == 1 ? 0 : end - 1;
+  // Moving back in time: start the window afresh.
+  if (!m.blocks.empty() && m.blocks.front().k > a) {
+    while (!m.blocks.empty()) {
+      m.spare.push_back(std::move(m.blocks.back()));
+      m.blocks.pop_back();
+    }
+  }
   // Drop intervals outside the window (keep their storage for reuse).
   while (!m.blocks.empty() && (m.blocks.front().k < a || m.blocks.front().k > last_interval)) {
     m.spare.push_back(std::move(m.blocks.front()));

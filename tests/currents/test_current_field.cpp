@@ -260,6 +260,12 @@ TEST_CASE("streaming: frame memory stays bounded over a long multi-file set", "[
     const double h = (t + 300 - t0) / 3600.0;
     REQUIRE(f.sample(t + 300, 150.5, -20.1, 0).u_m_s == Approx(lin_u(h, 0, -20.1, 150.5)).margin(kTol_m_s));
   }
+  // Going back in time reloads the earlier frames.
+  for (double h : {100.5, 20.25, 21.0, 20.5, 3.75, 140.0}) {
+    const double t = t0 + h * 3600.0;
+    f.prepare(t, t + 600);
+    REQUIRE(f.sample(t + 60, 150.5, -20.1, 0).u_m_s == Approx(lin_u(h + 1.0 / 60, 0, -20.1, 150.5)).margin(kTol_m_s));
+  }
   // 1 + frames_ahead intervals of 4 floats per node, plus one decoded frame.
   CHECK(peak <= (3 * 4 + 2) * sizeof(float) * nodes + nodes);
   CHECK(peak > 0);
