@@ -1,4 +1,5 @@
 #include "cli_context.hpp"
+#include "connect_stage.hpp"
 #include "disperse_stage.hpp"
 
 namespace cullcast::cli {
@@ -12,9 +13,10 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
     ctx.action = [&ctx, scenario]() -> int {
       const study::Study study = ctx.load(*scenario);
       run_disperse_stage(ctx, study);
+      run_connect_stage(ctx, study);
       if (!ctx.quiet) {
-        ctx.out << "Not built yet in this version: connectivity, cull prioritisation and the "
-                   "briefing (run stopped after the drift stage).\n"
+        ctx.out << "Not built yet in this version: cull prioritisation and the briefing "
+                   "(run stopped after the connectivity stage).\n"
                    "Outputs are decision support with stated uncertainty; field work follows "
                    "local dive-safety codes, permits and licensed practice.\n";
       }
