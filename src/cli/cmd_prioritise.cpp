@@ -1,5 +1,5 @@
 #include "cli_context.hpp"
-#include "cullcast/base/error.hpp"
+#include "prioritise_stage.hpp"
 
 namespace cullcast::cli {
 
@@ -10,8 +10,9 @@ void add_prioritise_command(CLI::App& app, CliContext& ctx) {
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      ctx.load(*scenario);  // validate the scenario before saying what is missing
-      throw NotBuiltError("the prioritisation stage is not built in this version of cullcast");
+      const study::Study study = ctx.load(*scenario);
+      run_prioritise_stage(ctx, study);
+      return 0;
     };
   });
 }

@@ -126,7 +126,7 @@ CullModel build_model(const network::Connectivity& c, const reefs::ReefSet& reef
   if (std::none_of(m.weights.begin(), m.weights.end(), [](double w) { return w > 0; })) {
     throw InputError("no priority reefs: no reef of the reef layer has a priority above [cull] "
                      "priority_threshold = " + std::to_string(settings.priority_threshold) +
-                     " (set [reefs] priority_field to the attribute holding 0..1 weights)");
+                     " (set [reefs] priority to the attribute holding 0..1 weights)");
   }
   std::vector<int> site_of_reef(nr, -1);
   for (std::size_t s = 0; s < c.sources(); ++s) {

@@ -68,6 +68,12 @@ std::vector<Explanation> explain(const CullModel& m, const Robustness& r, const 
                     num(100 * row.removed_fraction, "%.0f") + " % of its ~" + num(row.adults, "%.0f") +
                     " adults and avert " + num(row.averted_pct, "%.1f") +
                     " % of the weighted settlement expected on the priority reefs.";
+    if (m.weights[site.reef] > 0) {
+      double self = 0;
+      for (int s : site.sources) self += larvae[s] * m.mean.coeff(s, site.reef);
+      t += " It is itself a priority reef: " + prob(larvae_here > 0 ? self / larvae_here : 0.0) +
+           " of its larvae per larva resettle on it.";
+    }
     if (!ex.direct.empty()) {
       t += " Its larvae settle directly on priority reef";
       t += ex.direct.size() > 1 ? "s " : " ";
