@@ -71,7 +71,7 @@ struct Instance {
 };
 inline Instance random_instance(std::uint32_t seed, int n, int events) {
   std::mt19937 rng(seed);
-  std::uniform_int_distribution<int> count(0, 30);
+  std::uniform_int_distribution<int> count(0, n <= 30 ? 30 : 1000 / n);  // a row never exceeds 1000 released
   std::uniform_real_distribution<double> unit(0.0, 1.0);
   std::vector<std::vector<std::vector<int>>> s(events, std::vector<std::vector<int>>(n, std::vector<int>(n)));
   for (auto& ev : s) {
