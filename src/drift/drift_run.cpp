@@ -231,7 +231,14 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       summary.warnings.push_back(w.str());
     }
 
-    const auto steps = static_cast<std::uint32_t>(std::ceil(event_length_s(event, study.larvae) / step.dt_s - 1e-9));
+    // The nominal lifetime; with temperature-dependent development larvae in
+    // cool water live longer in calendar time, so stepping continues until
+    // every particle has its fate or the currents end.
+    auto steps = static_cast<std::uint32_t>(std::ceil(event_length_s(event, study.larvae) / step.dt_s - 1e-9));
+    if (extras.environment.any()) {
+      const double room = field.time_end_s() - step.event_start_s;
+      steps = std::max(steps, static_cast<std::uint32_t>(std::floor(room / step.dt_s + 1e-9)));
+    }
     EventSummary es;
     es.label = event.label;
     std::uint64_t alive = 0, settled = 0, released = 0;
@@ -312,6 +319,13 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     t.stranded += es.fates.stranded;
     t.lost += es.fates.lost;
     t.drifting += es.fates.drifting;
+    if (es.fates.drifting > 0) {
+      std::ostringstream w;
+      w << event.label << ": " << es.fates.drifting
+        << " larvae were still drifting when the stepping ended (currents end at "
+        << describe_time(calendar, field.time_end_s()) << "); their fate is unknown";
+      summary.warnings.push_back(w.str());
+    }
     t.settled_weight += es.fates.settled_weight;
     summary.events.push_back(es);
   }

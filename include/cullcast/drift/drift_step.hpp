@@ -85,7 +85,7 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
                 stranded = 0, lost = 0;
   double max_speed = 0;
 
-#pragma omp parallel for schedule(static) reduction(+ : particle_steps, land_contacts, released, \
+#pragma omp parallel for schedule(static) if (n > 4096) reduction(+ : particle_steps, land_contacts, released, \
                                                         settled, died, stranded, lost)           \
     reduction(max : max_speed)
   for (std::int64_t i = 0; i < n; ++i) {
