@@ -9,7 +9,7 @@ namespace cullcast::cli {
 void add_demo_data_command(CLI::App& app, CliContext& ctx) {
   CLI::App* cmd = app.add_subcommand("demo-data", "Write synthetic CF-NetCDF currents for demos and tests");
   cmd->footer(
-      "Kinds: demo (invented 'Lantern Reach' archipelago, 150.0..150.6 E, 20.4..20.0 S, ~1 km, hourly,\n"
+      "Kinds: demo (invented 'Lantern Reach' archipelago, 149.75..150.85 E, 20.65..19.75 S, ~1.3 km, hourly,\n"
       "       from 2026-12-01), uniform, eddy (solid-body, 2-day turn), double-gyre (Shadden, Lekien &\n"
       "       Marsden 2005). One file per --days-per-file days; files are written atomically.\n"
       "Examples:\n  cullcast demo-data scenarios/demo/currents\n"
@@ -33,6 +33,14 @@ void add_demo_data_command(CLI::App& app, CliContext& ctx) {
       options.kind = currents::synthetic_kind_from_name(args->kind);
       options.days = args->days;
       options.days_per_file = args->days_per_file;
+      if (options.kind == currents::SyntheticKind::demo) {
+        // The archipelago's reefs lie in 150.0..150.6 E, 20.4..20.0 S; the
+        // currents reach 0.25 degrees beyond, so larvae that drift off the
+        // reefs for days can still come back.
+        options.lon_min = 149.75, options.lon_max = 150.85;
+        options.lat_min = -20.65, options.lat_max = -19.75;
+        options.spacing_deg = 0.0125;
+      }
       const auto files = currents::write_synthetic_currents(args->dir, options);
       if (!ctx.quiet) {
         for (const auto& f : files) ctx.out << "wrote " << f.string() << "\n";

@@ -67,8 +67,8 @@ Point demo_point(double t_h, double lon, double lat, double depth_m, const Synth
   const double t_d = t_h / 24.0;
   // Islands (invented): centre lon, lat, radius m.
   struct Island { double lon, lat, r; };
-  static constexpr Island islands[] = {{150.30, -20.22, 2600}, {150.12, -20.07, 1500}, {150.49, -20.33, 1800},
-                                       {150.41, -20.15, 1100}};
+  // The two islands of the demo reef layer (scenarios/lantern-reach/make_reefs.py keeps reefs clear of them).
+  static constexpr Island islands[] = {{150.15, -20.20, 1800}, {150.42, -20.28, 1800}};
   double shelter = 1.0;
   for (const Island& is : islands) {
     const double d = std::hypot(x - box.x_m(is.lon), y - box.y_m(is.lat)) - is.r;
@@ -76,13 +76,27 @@ Point demo_point(double t_h, double lon, double lat, double depth_m, const Synth
     shelter *= 1.0 - std::exp(-(d * d) / (1500.0 * 1500.0));  // flow slackens near shores
   }
   const double decay = std::exp(-depth_m / 40.0);
-  // Shelf current toward the north-west, speed and heading varying by day.
-  const double speed = 0.2 * (1.0 + 0.35 * daily(t_d, 1) + 0.1 * std::sin(2 * pi * t_d / 7.3));
+  // Shelf current toward the north-west that slackens and reverses with the
+  // weather (period ~6 days, varying by day), so larvae meander over the
+  // weeks they drift instead of all leaving the region.
+  const double mean = 0.025 * (1.0 + 0.5 * daily(t_d, 1));
+  const double swing = 0.12 * std::sin(2 * pi * t_d / 6.1 + 1.5 * daily(t_d, 6));
+  const double speed = mean + swing;
   const double heading = (315.0 + 25.0 * daily(t_d, 2)) * kDeg;  // clockwise from north
   // Weaker inshore (south) and stronger offshore (north).
   const double cross = 0.7 + 0.6 * (y / height);
   p.u += speed * cross * std::sin(heading) * decay;
   p.v += speed * cross * std::cos(heading) * decay;
+  // A broad clockwise recirculation over the archipelago (southern-hemisphere
+  // anticyclonic sense is counter-clockwise; this lagoon cell is wind-driven):
+  // 0.07 m/s at 25 km from its centre, closed streamlines that hold larvae.
+  {
+    const double cx = 0.5 * width, cy = 0.5 * height;
+    const double omega = 0.07 / 25000.0;  // 1/s
+    const double fade = std::exp(-((x - cx) * (x - cx) + (y - cy) * (y - cy)) / (2 * 30000.0 * 30000.0));
+    p.u += omega * (y - cy) * fade * decay;
+    p.v += -omega * (x - cx) * fade * decay;
+  }
   // Tides: M2 + S2 ellipses, major axis NE-SW, phase travelling westward.
   const double phase = 2 * pi * (x / 400000.0);
   const double m2 = 2 * pi * t_h / kM2Period_h - phase, s2 = 2 * pi * t_h / kS2Period_h - phase;
