@@ -1,12 +1,16 @@
 #include "cli_context.hpp"
 #include "connect_stage.hpp"
 #include "disperse_stage.hpp"
+#include "prioritise_stage.hpp"
 
 namespace cullcast::cli {
 
 void add_run_command(CLI::App& app, CliContext& ctx) {
   CLI::App* cmd = app.add_subcommand("run", "Run every stage the scenario configures");
-  cmd->footer("Example:\n  cullcast run scenarios/lantern-reach.toml --threads 2");
+  cmd->footer(
+      "Stages: disperse (drift) -> connect (connectivity) -> prioritise (when the scenario\n"
+      "has a [cull] section).\n"
+      "Example:\n  cullcast run scenarios/lantern-reach.toml --threads 2");
   auto scenario = std::make_shared<std::string>();
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
@@ -14,10 +18,10 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
       const study::Study study = ctx.load(*scenario);
       run_disperse_stage(ctx, study);
       run_connect_stage(ctx, study);
+      if (study.cull.present) run_prioritise_stage(ctx, study);
       if (!ctx.quiet) {
-        ctx.out << "Not built yet in this version: cull prioritisation and the briefing "
-                   "(run stopped after the connectivity stage).\n"
-                   "Outputs are decision support with stated uncertainty; field work follows "
+        ctx.out << "Outputs are in " << study.outputs.dir.string() << ".\n"
+                << "Outputs are decision support with stated uncertainty; field work follows "
                    "local dive-safety codes, permits and licensed practice.\n";
       }
       return 0;
