@@ -8,6 +8,7 @@
 #include <sstream>
 
 #include "cullcast/base/error.hpp"
+#include "cullcast/network/stepping_stones.hpp"
 #include "cullcast/network/binomial_interval.hpp"
 #include "cullcast/network/connectivity_writer.hpp"
 #include "cullcast/network/persistence.hpp"
@@ -198,6 +199,18 @@ ConnectSummary run_connect_stage(const CliContext& ctx, const study::Study& stud
     network::write_attribution_csv(dir / "attribution.csv", c, attributions);
     summary.outputs.push_back(dir / "attribution.csv");
   }
+  // Stepping-stone routes into the priority reefs (every reef when none has a
+  // priority and the network is small enough for all pairs).
+  std::vector<int> route_sinks;
+  for (std::size_t j = 0; j < reef_set.size(); ++j) {
+    if (reef_set.reefs()[j].priority > 0) route_sinks.push_back(static_cast<int>(j));
+  }
+  if (route_sinks.empty() && reef_set.size() <= 200) {
+    for (std::size_t j = 0; j < reef_set.size(); ++j) route_sinks.push_back(static_cast<int>(j));
+  }
+  network::write_stepping_stones_csv(dir / "stepping_stones.csv", c.sink_ids,
+                                     network::stepping_stone_routes(mean_p, route_sinks));
+  summary.outputs.push_back(dir / "stepping_stones.csv");
   using F = report::LayerField;
   auto real = [&](const char* name, auto get) {
     F f{name, F::Type::real, {}, {}, {}};
