@@ -1,17 +1,20 @@
+#include "brief_stage.hpp"
 #include "cli_context.hpp"
-#include "cullcast/base/error.hpp"
 
 namespace cullcast::cli {
 
 void add_brief_command(CLI::App& app, CliContext& ctx) {
   CLI::App* cmd = app.add_subcommand("brief", "Write the briefing (HTML, maps, GIS and NetCDF layers)");
-  cmd->footer("Example:\n  cullcast brief scenarios/demo.toml");
+  cmd->footer("Example:\n  cullcast brief scenarios/demo.toml\n"
+              "Reads the outputs of disperse, connect (and prioritise with [cull]); writes briefing.html,\n"
+              "briefing.gpkg and settlement_density.tif beside them.");
   auto scenario = std::make_shared<std::string>();
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      ctx.load(*scenario);  // validate the scenario before saying what is missing
-      throw NotBuiltError("the briefing stage is not built in this version of cullcast");
+      const study::Study study = ctx.load(*scenario);
+      run_brief_stage(ctx, study);
+      return 0;
     };
   });
 }

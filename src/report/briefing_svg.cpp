@@ -236,13 +236,10 @@ MapFrame map_frame(const BriefingData& d, double left, double top, double width)
     add(r.lon_max, r.lat_max);
   }
   for (const auto& a : d.aggregations) add(a.lon, a.lat);
-  if (!d.land.empty()) {  // the grid box only when it is near the reefs (not a whole ocean basin)
-    const double g0 = d.land.lon0, g1 = d.land.lon0 + d.land.dlon * (d.land.nx - 1);
-    const double h0 = d.land.lat0, h1 = d.land.lat0 + d.land.dlat * (d.land.ny - 1);
-    if (!std::isfinite(lo0) || (g1 - g0) < 3 * (lo1 - lo0 + 0.01)) {
-      add(std::min(g0, g1), std::min(h0, h1));
-      add(std::max(g0, g1), std::max(h0, h1));
-    }
+  if (!std::isfinite(lo0) && !d.land.empty()) {  // no reefs: the currents grid
+    add(d.land.lon0, d.land.lat0);
+    add(d.land.lon0 + d.land.dlon * static_cast<double>(d.land.nx - 1),
+        d.land.lat0 + d.land.dlat * static_cast<double>(d.land.ny - 1));
   }
   if (!std::isfinite(lo0)) {
     lo0 = 0;
@@ -250,7 +247,7 @@ MapFrame map_frame(const BriefingData& d, double left, double top, double width)
     la0 = 0;
     la1 = 1;
   }
-  const double m = 0.04 * std::max({lo1 - lo0, la1 - la0, 0.01});
+  const double m = 0.12 * std::max({lo1 - lo0, la1 - la0, 0.02});
   MapFrame f = MapFrame::fit(lo0 - m, lo1 + m, la0 - m, la1 + m, left, top, width);
   if (f.height > 1.1 * width) f = MapFrame::fit(lo0 - m, lo1 + m, la0 - m, la1 + m, left, top, width * 1.1 * width / f.height);
   return f;
@@ -290,7 +287,7 @@ std::string svg_role_map(const BriefingData& d) {
   const double w = f.left + f.width + 12, h = f.top + f.height + 30;
   std::ostringstream s;
   s << svg_open(w, h, "Map of reefs by role, strongest links and recommended cull sites");
-  s << "<defs><marker id='arrow' viewBox='0 0 10 10' refX='8' refY='5' markerWidth='5' markerHeight='5' "
+  s << "<defs><marker id='arrow' viewBox='0 0 10 10' refX='8' refY='5' markerWidth='11' markerHeight='11' markerUnits='userSpaceOnUse' "
        "orient='auto-start-reverse'><path d='M0,0L10,5L0,10z' fill='#1d2a33'/></marker></defs>\n";
   base_map(s, d, f);
   // Links: the strongest first-order links (mean over events), width ~ probability.
@@ -363,9 +360,16 @@ std::string svg_role_map(const BriefingData& d) {
       << num(x, 2) << "' y='" << num(y + 4, 2) << "' text-anchor='middle'>" << c.rank << "</text>\n";
   }
   s << "</g>\n";
-  if (d.reefs.size() <= 40) {
-    s << "<g class='labels' font-size='10' fill='#111' stroke='#fff' stroke-width='2.6' paint-order='stroke'>\n";
-    for (const auto& r : d.reefs) {
+  {  // names of priority reefs and cull sites (all reefs when few)
+    std::vector<bool> named(d.reefs.size(), d.reefs.size() <= 25);
+    for (std::size_t i = 0; i < d.reefs.size(); ++i) named[i] = named[i] || is_priority(d, static_cast<int>(i));
+    for (const auto& c : d.ranking) {
+      if (c.reef >= 0) named[c.reef] = true;
+    }
+    s << "<g class='labels' font-size='10.5' fill='#111' stroke='#fff' stroke-width='2.6' paint-order='stroke'>\n";
+    for (std::size_t i = 0; i < d.reefs.size(); ++i) {
+      if (!named[i]) continue;
+      const auto& r = d.reefs[i];
       s << "<text x='" << num(f.x(r.centroid.lon) + 7, 2) << "' y='" << num(f.y(r.centroid.lat) - 6, 2) << "'>"
         << html_escape(r.name) << "</text>\n";
     }
@@ -375,7 +379,7 @@ std::string svg_role_map(const BriefingData& d) {
   // Legend, top left.
   const double lx = f.left + 10, ly = f.top + 10;
   s << "<g class='legend' font-size='11'><rect x='" << num(lx, 2) << "' y='" << num(ly, 2)
-    << "' width='196' height='" << (links.empty() ? 178 : 228) << "' fill='#fff' fill-opacity='0.9' stroke='#999'/>";
+    << "' width='200' height='" << (links.empty() ? 150 : 184) << "' fill='#fff' fill-opacity='0.9' stroke='#999'/>";
   double yy = ly + 16;
   for (const char* role : {"source", "sink", "exchange", "isolated"}) {
     s << "<rect x='" << num(lx + 8, 2) << "' y='" << num(yy - 9, 2) << "' width='14' height='11' fill='"
