@@ -199,11 +199,11 @@ ConnectSummary run_connect_stage(const CliContext& ctx, const study::Study& stud
     network::write_attribution_csv(dir / "attribution.csv", c, attributions);
     summary.outputs.push_back(dir / "attribution.csv");
   }
-  // Stepping-stone routes into the priority reefs (every reef when none has a
-  // priority and the network is small enough for all pairs).
+  // Stepping-stone routes into the high-priority reefs (priority >= 0.5; every
+  // reef when there are none and the network is small enough for all pairs).
   std::vector<int> route_sinks;
   for (std::size_t j = 0; j < reef_set.size(); ++j) {
-    if (reef_set.reefs()[j].priority > 0) route_sinks.push_back(static_cast<int>(j));
+    if (reef_set.reefs()[j].priority >= 0.5) route_sinks.push_back(static_cast<int>(j));
   }
   if (route_sinks.empty() && reef_set.size() <= 200) {
     for (std::size_t j = 0; j < reef_set.size(); ++j) route_sinks.push_back(static_cast<int>(j));
