@@ -43,6 +43,13 @@ scheme = "rk4"                   # rk4 | rk2 | euler
 
 [outputs]
 dir = "out"
+
+# Uncomment to rank cull sites (`cullcast prioritise`; `run` then chains it):
+# [cull]
+# vessel_days = 10.0             # budget: culling effort plus travel
+# home_lon = 150.2               # home port (travel counts in the budget)
+# home_lat = -20.2
+# priority_threshold = 0.6       # reefs above this priority are protected
 )";
 }
 
