@@ -63,7 +63,7 @@ case "${1:-}" in
     (cd "$build_dir" && ctest --output-on-failure -j "$jobs" --timeout 900)
     if [[ "${CULLCAST_SKIP_SANITIZE:-0}" != 1 ]]; then
       echo "setup: fast tests again under AddressSanitizer + UndefinedBehaviorSanitizer"
-      configure_and_build "$sanitize_dir" -DCULLCAST_SANITIZE=ON -DCMAKE_BUILD_TYPE=RelWithDebInfo
+      configure_and_build "$sanitize_dir" -DCULLCAST_SANITIZE=ON -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_FLAGS=-g1
       (cd "$sanitize_dir" && ASAN_OPTIONS=detect_leaks=0 ctest --output-on-failure -j "$jobs" -L fast --timeout 900)
     fi
     ;;
