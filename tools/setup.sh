@@ -18,6 +18,7 @@ packages=(
   libboost-graph-dev libboost-dev
   libcli11-dev catch2 libtomlplusplus-dev libgeographiclib-dev
   python3 python3-numpy python3-scipy python3-netcdf4
+  chromium
 )
 
 install_missing() {
