@@ -7,6 +7,7 @@
 
 #include "cullcast/base/error.hpp"
 #include "cullcast/study/load_study.hpp"
+#include "section_test_support.hpp"
 
 namespace fs = std::filesystem;
 using cullcast::InputError;
@@ -15,32 +16,9 @@ using cullcast::study::load_study_text;
 using Catch::Matchers::Contains;
 
 namespace {
-
-// File checks are off: only the [cull] section is under test here.
-const std::string kBase = R"([currents]
-files = ["currents/*.nc"]
-[reefs]
-layer = "reefs.geojson"
-[[spawning]]
-start = "2026-12-08T20:00:00Z"
-)";
-
-cullcast::study::Study load(const std::string& text, std::vector<std::string> overrides = {}) {
-  LoadOptions options;
-  options.check_files = false;
-  options.overrides = std::move(overrides);
-  return load_study_text(text, fs::path("/tmp/cullcast-cull-settings/s.toml"), options);
-}
-
-std::string error_of(const std::string& text) {
-  try {
-    load(text);
-  } catch (const InputError& e) {
-    return e.what();
-  }
-  return "no error";
-}
-
+const std::string& kBase = cullcast::test::kBaseScenario;
+using cullcast::test::error_of;
+using cullcast::test::load;
 }  // namespace
 
 TEST_CASE("cull settings: documented defaults without the section") {
