@@ -39,7 +39,10 @@ void backward_step(ParticleSet& p, std::uint32_t step, double t0_model_s, double
   const double walk = std::sqrt(2.0 * kh_m2_s * dt_s);
   const std::int64_t n = static_cast<std::int64_t>(p.size());
   std::uint64_t lost = 0;
-#pragma omp parallel for schedule(static) reduction(+ : lost)
+  // Serial below a few thousand particles, as in drift_step: a parallel
+  // region per step costs more than it saves there, and far more when the
+  // machine is busy (threads spin-wait for a core).
+#pragma omp parallel for schedule(static) if (n > 4096) reduction(+ : lost)
   for (std::int64_t i = 0; i < n; ++i) {
     if (p.fate[i] != Fate::drifting) continue;
     const double depth = p.depth_m[i];
