@@ -380,8 +380,8 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
   event.start = b.arrival;
   event.larvae_per_reef = b.larvae;
   event.depth_m = b.depth_m;
+  event.hours = b.hours;  // arrivals spread over the window, as releases are forwards
   ParticleSet p = particles_from(reefs::plan_release(reefs, sources, event, 0xFFFFu, study.reefs, study.study.seed));
-  for (std::size_t i = 0; i < p.size(); ++i) p.fate[i] = Fate::drifting;
   const LarvalClock clock(study.larvae);
   const EarthModel earth = EarthModel::from_name(study.motion.earth, study.motion.earth_radius_m);
   const reefs::ReefLookup lookup(reefs, study.reefs.settle_buffer_m);
@@ -390,11 +390,23 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
   const Scheme scheme = scheme_from_name(study.motion.scheme);
   BackwardTally tally;
   tally.reef_weight.assign(reefs.reefs().size(), 0.0);
-  // All particles start at the arrival time (the window spreads them in age, not position).
-  const double start = calendar.to_seconds(b.arrival);
-  const auto steps = static_cast<std::uint32_t>(std::ceil(clock.max_age_s() / dt - 1e-9));
+  // The run steps back from the last arrival. A particle arriving at
+  // `arrival + offset` joins at the first step boundary at or before its
+  // arrival (the mirror of a forward release); release_s then holds the
+  // backward time at which it joined, and its own τ counts from there.
+  const double window = b.hours * 3600.0;
+  const double last = calendar.to_seconds(b.arrival) + window;
+  std::vector<double> joins_after(p.size());  // backward seconds from `last` to the arrival
+  for (std::size_t i = 0; i < p.size(); ++i) joins_after[i] = window - p.release_s[i];
+  const auto steps = static_cast<std::uint32_t>(std::ceil((window + clock.max_age_s()) / dt - 1e-9));
   for (std::uint32_t k = 0; k < steps; ++k) {
-    const double t0 = start - k * dt;
+    const double t0 = last - k * dt;
+    for (std::size_t i = 0; i < p.size(); ++i) {
+      if (p.fate[i] == Fate::waiting && joins_after[i] <= k * dt + 1e-6) {
+        p.fate[i] = Fate::drifting;
+        p.release_s[i] = static_cast<float>(k * dt);
+      }
+    }
     field.prepare(t0 - dt, t0);
     backward_step(p, k, t0, dt, study.motion.kh_m2_s, scheme, earth, field, rng, 0xFFFFu, tally);
     add_origins(p, (k + 1) * dt, dt, clock, lookup, tally);
@@ -405,7 +417,8 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
   fs::create_directories(study.outputs.dir);
   AtomicFile file(out);
   auto& o = file.stream();
-  o << "# backward drift from sink " << b.sink << " arriving " << format_iso8601(b.arrival)
+  o << "# backward drift from sink " << b.sink << " arriving " << format_iso8601(b.arrival) << " over "
+    << b.hours << " h"
     << "; weight = sum of survival x seconds in the competency window; diffusion is not time-reversible\n";
   o << "reef_id,weight_s,share\n";
   o.precision(10);

@@ -39,6 +39,7 @@ struct CurrentsSpec {
   std::size_t hours = 120;               // record length; frames hourly from 2026-12-01T00Z
   std::vector<double> depths;            // depth levels (m, positive down); empty = 2-D
   std::vector<double> u_m_s = {0.1};     // eastward velocity per level (one value for 2-D)
+  double u_until_hour = 1e9;             // frames after this hour are still water (u = 0)
   std::optional<double> temperature_c;   // written in kelvin (CF canonical unit) unless temperature_degc
   bool temperature_degc = false;         // write the temperature in degC (exact float values)
   std::optional<double> chlorophyll_mg_m3;  // written in kg m-3 (CF canonical unit)
@@ -110,13 +111,17 @@ struct Workspace {
       for (std::size_t i = 0; i < n; ++i) out[i] = static_cast<float>(by_level[(i / plane) % nz]);
       return out;
     };
+    std::vector<float> u = per_level(c.u_m_s);
+    for (std::size_t i = 0; i < n; ++i) {
+      if (static_cast<double>(i / (nz * plane)) > c.u_until_hour) u[i] = 0.0f;
+    }
     auto add = [&](const char* name, const char* standard, const char* units, const std::vector<float>& data) {
       NcVar v = f.addVar(name, ncFloat, dims);
       v.putAtt("standard_name", standard);
       v.putAtt("units", units);
       v.putVar(data.data());
     };
-    add("u", "eastward_sea_water_velocity", "m s-1", per_level(c.u_m_s));
+    add("u", "eastward_sea_water_velocity", "m s-1", u);
     add("v", "northward_sea_water_velocity", "m s-1", std::vector<float>(n, 0.0f));
     if (c.temperature_c) {
       // CF standard name table v77: sea_water_temperature, canonical unit K.
@@ -380,6 +385,44 @@ TEST_CASE("backward section: in an eastward current traces arrivals on the east 
   const double per_particle = std::stod(weight_text) / 300.0;
   CHECK(per_particle >= std::floor(crossing / kDt) * kDt - 1e-6);
   CHECK(per_particle <= std::ceil(crossing / kDt) * kDt + 1e-6);
+}
+
+TEST_CASE("backward section: arrivals spread over the window trace back from their own arrival times") {
+  // Eastward 0.1 m/s until day 5, still water after (frame 121 on). Arrivals
+  // on EAST over 24 h from day 5.5: a larva arriving s after day 5.5 sat on
+  // EAST for 0.5 d + s before the current (backwards) carries it west. With
+  // precompetent = 0.5 d, EAST gains the part of that stay beyond 0.5 d (s)
+  // plus the rest of its crossing of EAST once the current runs.
+  Workspace w("window");
+  w.write_reefs(true);
+  CurrentsSpec c;
+  c.hours = 192;
+  c.u_until_hour = 120;
+  w.write_currents(c);
+  const study::Study s =
+      load(w.scenario(c.name, "", "", "[backward]\nsink = \"EAST\"\narrival = 2026-12-06T12:00:00Z\nhours = 24\nlarvae = 300\n"),
+           {"larvae.precompetent_days=0.5", "larvae.competent_days=3.5"});
+  currents::CurrentField field = currents::CurrentField::open(s.currents);
+  const auto reef_set = reefs::ReefSet::load(s.reefs);
+  const fs::path out = drift::run_backward(s, field, reef_set);
+  std::ifstream in(out);
+  std::string line;
+  std::map<std::string, double> weight;
+  while (std::getline(in, line)) {
+    if (line.empty() || line[0] == '#' || line.rfind("reef_id", 0) == 0) continue;
+    const auto a = line.find(','), b = line.find(',', a + 1);
+    weight[line.substr(0, a)] = std::stod(line.substr(a + 1, b - a - 1));
+  }
+  CHECK(weight.count("WEST") == 1);
+  REQUIRE(weight.count("EAST") == 1);
+  // [D] Mean per particle: s averages 12 h (arrivals spread evenly), the
+  // remaining crossing of EAST averages half its 0.02° at 0.1 m/s. Tolerance:
+  // the hour-long ramp of u between frames 120 and 121 (time-linear
+  // interpolation) plus a step, and the random placement (sd ≈ 350 s for 300).
+  // All arrivals at once (the window ignored) would give about 10 400 s.
+  const double crossing = 0.02 * kR * std::cos(20.1 * kPi / 180) * kPi / 180 / 0.1;
+  const double expected = 12 * 3600.0 + crossing / 2;
+  CHECK(weight["EAST"] / 300 == Approx(expected).margin(3600 + kDt));
 }
 
 TEST_CASE("depth modes on a 3-D currents file: interpolated speed, band and water column kept, fates conserved") {

@@ -75,16 +75,20 @@ void backward_step(ParticleSet& p, std::uint32_t step, double t0_model_s, double
   tally.lost += lost;
 }
 
-// Adds the origin weight of the particles after backward time tau_s.
+// Adds the origin weight of the particles after backward time elapsed_s of
+// the run. A particle's own backward time is τ = elapsed_s − release_s (its
+// arrival, counted backwards from the run's start: 0 when all arrive at once).
 template <class Lookup>
-void add_origins(const ParticleSet& p, double tau_s, double dt_s, const LarvalClock& clock,
+void add_origins(const ParticleSet& p, double elapsed_s, double dt_s, const LarvalClock& clock,
                  const Lookup& reefs, BackwardTally& tally) {
-  if (!clock.competent(tau_s)) return;
-  const double w = clock.survival(tau_s) * dt_s;
   for (std::size_t i = 0; i < p.size(); ++i) {
     if (p.fate[i] != Fate::drifting) continue;
+    const double tau_s = elapsed_s - p.release_s[i];
+    if (!clock.competent(tau_s)) continue;
     const int r = reefs.reef_at(p.lon[i], p.lat[i]);
-    if (r >= 0 && static_cast<std::size_t>(r) < tally.reef_weight.size()) tally.reef_weight[r] += w * p.weight[i];
+    if (r >= 0 && static_cast<std::size_t>(r) < tally.reef_weight.size()) {
+      tally.reef_weight[r] += clock.survival(tau_s) * dt_s * p.weight[i];
+    }
   }
 }
 
