@@ -11,7 +11,8 @@ on the same particles for the same steps, `--repeats` times each (interleaved),
 and prints the best particle-steps per second of each side and the ratio.
 
 Then checks that the two agree:
-  - Kh = 0 (both deterministic RK4): fates and final positions particle by
+  - Kh = 0 (both deterministic RK4): fates (same for >= 98 % of particles;
+    the NumPy side's reef look-up is a raster) and final positions particle by
     particle (max and percentiles of the distance; differences come from float
     vs double velocities and bilinear weights, the exact vs rasterised reef
     look-up and, where a particle meets land, which step is held);
@@ -94,6 +95,8 @@ def main():
     ap.add_argument("--steps", type=int, default=144, help="600 s steps (144 = one day)")
     ap.add_argument("--repeats", type=int, default=3)
     ap.add_argument("--kh", type=float, default=1.0, help="m2/s for the timed runs")
+    ap.add_argument("--raster-factor", type=int, default=32,
+                    help="reef raster cells per currents-grid spacing (NumPy side's reef look-up)")
     ap.add_argument("--work", default="/tmp/cullcast-np-bench")
     a = ap.parse_args()
 
@@ -111,7 +114,8 @@ def main():
 
     cur = nb.Currents(files)
     lon0, lat0 = place_particles(cur, a.particles, 7, parts)
-    print(run([cxx, "--currents", currents, "--reefs", reefs, "--write-reef-raster", raster]).strip())
+    print(run([cxx, "--currents", currents, "--reefs", reefs, "--write-reef-raster", raster,
+               "--raster-factor", str(a.raster_factor)]).strip())
     print(f"grid {cur.nx} x {cur.ny}, {cur.t.size} frames; {a.particles} particles; {a.steps} steps of 600 s")
 
     common = ["--currents", currents, "--particles", parts, "--steps", str(a.steps)]
@@ -126,6 +130,12 @@ def main():
                   f"settled {int(r['settled'])}, lost {int(r['lost'])}, land contacts {int(r['land_contacts'])})")
             if name not in best or r["step_rate"] > best[name]["step_rate"]:
                 best[name] = r
+    if a.repeats > 0:
+        report_timing(best)
+    return agreement(a, cxx, py, common, reefs, raster, lon0, lat0)
+
+
+def report_timing(best):
     n_ps = best["numpy"]["particle_steps"]
     print("\nbest of each (drift step only; whole program includes reading the currents and particles):")
     for name in ("cxx1", "cxx2", "numpy"):
@@ -143,6 +153,9 @@ def main():
     if abs(best["cxx1"]["particle_steps"] - n_ps) > 0.01 * n_ps:
         print(f"  note: particle-steps differ: C++ {int(best['cxx1']['particle_steps'])}, NumPy {int(n_ps)}")
 
+
+
+def agreement(a, cxx, py, common, reefs, raster, lon0, lat0):
     ok = True
     print("\nagreement, Kh = 0 (deterministic):")
     c_out, n_out, c2_out = (os.path.join(a.work, f) for f in ("cxx_kh0.bin", "numpy_kh0.bin", "cxx2_kh0.bin"))
@@ -173,7 +186,7 @@ def main():
     k0cl, k0cb, k0c, k0nl, k0nb, k0n = cl, cb, cf, nl, nbt, nf
     wdiff = np.max(np.abs(cw[both] - nw[both]))
     print(f"  weight: max difference {wdiff:.3g}")
-    ok &= bool(np.mean(same_fate) > 0.99 and mdiff < 1e-3 * scale and wdiff < 1e-12)
+    ok &= bool(np.mean(same_fate) > 0.98 and mdiff < 1e-3 * scale and wdiff < 1e-12)
 
     print(f"\nagreement, Kh = {a.kh} m2/s (statistical):")
     c_out, n_out = os.path.join(a.work, "cxx_kh.bin"), os.path.join(a.work, "numpy_kh.bin")
