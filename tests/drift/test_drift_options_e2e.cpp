@@ -661,6 +661,25 @@ TEST_CASE("optional physics on: settlement records and tracks are bit-identical 
   }
 }
 
+TEST_CASE("backward origins are identical for 1 and 2 threads with enough particles to split the loop", "[slow]") {
+  Workspace w("backthreads");
+  CurrentsSpec c;
+  w.write_currents(c);
+  auto origins = [&](int threads) {
+    omp_set_num_threads(threads);
+    const std::string name = "t" + std::to_string(threads);
+    const study::Study s = load(w.scenario(c.name, "kh_m2_s = 20\n", "", "[backward]\nsink = \"EAST\"\n"
+                                           "arrival = 2026-12-05T00:00:00Z\nhours = 3\nlarvae = 5000\n",
+                                           "", name + ".toml", name));
+    currents::CurrentField field = currents::CurrentField::open(s.currents);
+    return slurp(drift::run_backward(s, field, reefs::ReefSet::load(s.reefs)));
+  };
+  const std::string a = origins(1), b = origins(2);
+  omp_set_num_threads(omp_get_num_procs());
+  CHECK(a.find("WEST,") != std::string::npos);
+  CHECK(a == b);
+}
+
 TEST_CASE("cullcast disperse prints where it wrote tracks and backward origins") {
   const fs::path exe = CULLCAST_EXE;
   REQUIRE(fs::exists(exe));  // build the `cullcast` target before test_drift
