@@ -177,7 +177,7 @@ TEST_CASE("unquoted TOML date-times and UTC offsets are accepted") {
   CHECK(s.spawning[0].start == cullcast::CivilTime{2026, 12, 8, 20, 0, 0.0});
 }
 
-TEST_CASE("--set overrides every kind of key and goes through the same checks") {
+TEST_CASE("overrides from the command line (--set) reach every kind of key through the same checks") {
   ScenarioDir d;
   const fs::path file = d.write(kMinimal + "[[spawning]]\nstart = \"2027-01-05T21:00:00Z\"\n");
   LoadOptions o;
