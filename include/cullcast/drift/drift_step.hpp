@@ -104,13 +104,14 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
     const EarthModel::Local metric = earth.near(start[1]);
     auto rate = [&](double t, const Vec2& x) noexcept -> Vec2 {
       const currents::FlowSample f = flow.sample(t, x[0], x[1], depth);
-      speed_seen = std::fmax(speed_seen, std::fabs(f.u_m_s) + std::fabs(f.v_m_s));
+      const double speed = std::fabs(f.u_m_s) + std::fabs(f.v_m_s);
+      speed_seen = speed > speed_seen ? speed : speed_seen;  // not fmax: no libm call
       double east, north;
       metric.degrees_per_metre(x[1], east, north);
       return {f.u_m_s * east, f.v_m_s * north};
     };
     Vec2 x = advance(s.scheme, rate, t0_model, start, s.dt_s);
-    max_speed = std::fmax(max_speed, speed_seen);
+    max_speed = speed_seen > max_speed ? speed_seen : max_speed;
     const StreamId id{s.event, p.source[i], p.index[i]};
     bool walked = false;
     if constexpr (Extras::active) {
