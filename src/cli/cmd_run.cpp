@@ -1,4 +1,5 @@
 #include "cli_context.hpp"
+#include "brief_stage.hpp"
 #include "connect_stage.hpp"
 #include "disperse_stage.hpp"
 #include "prioritise_stage.hpp"
@@ -9,7 +10,7 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
   CLI::App* cmd = app.add_subcommand("run", "Run every stage the scenario configures");
   cmd->footer(
       "Stages: disperse (drift) -> connect (connectivity) -> prioritise (when the scenario\n"
-      "has a [cull] section).\n"
+      "has a [cull] section) -> brief (briefing.html and GIS layers).\n"
       "Example:\n  cullcast run scenarios/lantern-reach.toml --threads 2");
   auto scenario = std::make_shared<std::string>();
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
@@ -19,6 +20,7 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
       run_disperse_stage(ctx, study);
       run_connect_stage(ctx, study);
       if (study.cull.present) run_prioritise_stage(ctx, study);
+      run_brief_stage(ctx, study);
       if (!ctx.quiet) {
         ctx.out << "Outputs are in " << study.outputs.dir.string() << ".\n"
                 << "Outputs are decision support with stated uncertainty; field work follows "
