@@ -12,6 +12,7 @@
 #include <omp.h>
 
 #include <chrono>
+#include <ctime>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
@@ -20,12 +21,21 @@
 
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_step.hpp"
+#include "cullcast/drift/grid_stepper.hpp"
 #include "cullcast/reefs/reef_lookup.hpp"
 
 using namespace cullcast;
 namespace fs = std::filesystem;
 
 namespace {
+
+// CPU seconds used by the whole process (all threads): on a shared machine
+// this separates the code's cost from time spent waiting for a core.
+double process_cpu_s() {
+  timespec ts{};
+  clock_gettime(CLOCK_PROCESS_CPUTIME_ID, &ts);
+  return static_cast<double>(ts.tv_sec) + 1e-9 * static_cast<double>(ts.tv_nsec);
+}
 
 constexpr std::size_t kNx = 600, kNy = 400, kFrames = 8;
 constexpr double kLon0 = 150.0, kLat0 = -22.0, kStep = 0.009;  // ~1 km
@@ -140,41 +150,67 @@ int main(int argc, char** argv) {
   s.kh_m2_s = 1.0;
   const CounterRandom rng(42);
 
-  for (int threads : {1, 2}) {
+  // Spatially ordered, as particles are when released source by source:
+  // about four per grid cell, row by row, with a deterministic jitter.
+  std::vector<double> place_lon, place_lat;
+  std::size_t placed = 0;
+  const double per_cell = static_cast<double>(n) / ((kNx - 12) * (kNy - 12) * 0.97);
+  for (std::size_t k = 0; placed < n; ++k) {
+    const double cell = k / per_cell;
+    const double row = std::floor(cell / (kNx - 12)), col = cell - row * (kNx - 12);
+    const double jitter = std::fmod(k * 0.6180339887498949, 1.0);
+    const double lon = kLon0 + (6 + col) * kStep, lat = kLat0 + (6 + row + jitter) * kStep;
+    if (row >= kNy - 12) break;
+    if (field.status(lon, lat) != currents::SampleStatus::water) continue;
+    place_lon.push_back(lon), place_lat.push_back(lat);
+    ++placed;
+  }
+  drift::ParticleSet start_state;
+  start_state.resize(placed);
+  for (std::size_t i = 0; i < placed; ++i) {
+    start_state.lon[i] = place_lon[i], start_state.lat[i] = place_lat[i];
+    start_state.index[i] = static_cast<std::uint32_t>(i);
+  }
+
+  // Runs `steps` steps from the start state; production = the grid stepper
+  // used by run_drift on uniform grids, otherwise the generic templated step.
+  auto measure = [&](int threads, const char* label, bool production, const drift::StepSettings& settings,
+                     const drift::LarvalClock& larval_clock) {
     omp_set_num_threads(threads);
-    drift::ParticleSet p;
-    p.resize(n);
-    // Spatially ordered, as particles are when released source by source:
-    // about four per grid cell, row by row, with a deterministic jitter.
-    std::size_t placed = 0;
-    const double per_cell = static_cast<double>(n) / ((kNx - 12) * (kNy - 12) * 0.97);
-    for (std::size_t k = 0; placed < n; ++k) {
-      const double cell = k / per_cell;
-      const double row = std::floor(cell / (kNx - 12)), col = cell - row * (kNx - 12);
-      const double jitter = std::fmod(k * 0.6180339887498949, 1.0);
-      const double lon = kLon0 + (6 + col) * kStep, lat = kLat0 + (6 + row + jitter) * kStep;
-      if (row >= kNy - 12) break;
-      if (field.status(lon, lat) != currents::SampleStatus::water) continue;
-      p.lon[placed] = lon, p.lat[placed] = lat, p.index[placed] = static_cast<std::uint32_t>(placed);
-      ++placed;
-    }
-    p.lon.resize(placed), p.lat.resize(placed), p.depth_m.resize(placed), p.release_s.resize(placed);
-    p.weight.resize(placed), p.source.resize(placed), p.index.resize(placed), p.fate.resize(placed);
-    p.reef.resize(placed);
+    drift::ParticleSet p = start_state;
+    drift::GridStepper stepper(field, earth);
     std::vector<std::uint8_t> now;
     std::uint64_t particle_steps = 0;
-    double busy = 0;
+    double busy = 0, cpu = 0;
     for (std::uint32_t k = 0; k < steps; ++k) {
-      const double t0 = s.event_start_s + k * s.dt_s;
-      field.prepare(t0, t0 + s.dt_s);
+      const double t0 = settings.event_start_s + k * settings.dt_s;
+      field.prepare(t0, t0 + settings.dt_s);
       const auto start = std::chrono::steady_clock::now();
-      const auto tally = drift::drift_step(p, k, s, clock, earth, field, lookup, rng, now);
+      const double cpu_start = process_cpu_s();
+      const auto tally =
+          production ? stepper.step(p, k, settings, larval_clock, lookup, rng, now)
+                     : drift::drift_step(p, k, settings, larval_clock, earth, field, lookup, rng, now);
       busy += std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+      cpu += process_cpu_s() - cpu_start;
       particle_steps += tally.particle_steps;
     }
-    std::printf("threads %d: %.1f million particle-steps/s (%llu particle-steps in %.2f s)\n", threads,
-                particle_steps / busy / 1e6, static_cast<unsigned long long>(particle_steps), busy);
+    std::printf("threads %d, %-34s %6.1f million particle-steps/s wall, %6.1f per CPU-second\n", threads, label,
+                particle_steps / busy / 1e6, particle_steps / cpu / 1e6);
+  };
+  for (int threads : {1, 2}) {
+    measure(threads, "production step (grid stepper):", true, s, clock);
+    measure(threads, "generic drift_step:", false, s, clock);
   }
+  // Where the time goes (1 thread): without the random walk, without reef
+  // look-ups (larvae not yet competent), without both.
+  drift::StepSettings no_walk = s;
+  no_walk.kh_m2_s = 0;
+  study::LarvaeSettings young = larvae;
+  young.precompetent_days = 30.0;
+  const drift::LarvalClock young_clock(young);
+  measure(1, "  breakdown: no random walk", true, no_walk, clock);
+  measure(1, "  breakdown: no reef look-up", true, s, young_clock);
+  measure(1, "  breakdown: neither", true, no_walk, young_clock);
   {
     omp_set_num_threads(1);
     const BenchFields fields;

@@ -883,6 +883,31 @@ std::size_t CurrentField::frame_bytes() const {
   return bytes;
 }
 
+bool CurrentField::horizontal_slice(double t_s, double depth_m, std::vector<float>& uv) const {
+  const FlowSampler& s = hot_;
+  double a = 0;
+  const TimeBlock* blk = s.find_block(t_s, a);
+  if (blk == nullptr) return false;
+  std::ptrdiff_t k = 0;
+  double fz = 0;
+  s.locate_depth(depth_m, k, fz);
+  const std::size_t nodes = static_cast<std::size_t>(s.nx * s.ny);
+  uv.resize(2 * nodes);
+  const std::ptrdiff_t c = s.channels;
+  const float af = static_cast<float>(a), bf = static_cast<float>(fz);
+  const float* top = blk->data + k * static_cast<std::ptrdiff_t>(nodes) * c;
+  const float* below = fz > 0.0 ? top + static_cast<std::ptrdiff_t>(nodes) * c : top;
+  for (std::size_t n = 0; n < nodes; ++n) {
+    const float* p = top + n * c;
+    const float* q = below + n * c;
+    const float u0 = p[0] + af * p[2], v0 = p[1] + af * p[3];
+    const float u1 = q[0] + af * q[2], v1 = q[1] + af * q[3];
+    uv[2 * n] = u0 + bf * (u1 - u0);
+    uv[2 * n + 1] = v0 + bf * (v1 - v0);
+  }
+  return true;
+}
+
 SampleStatus CurrentField::status(double lon, double lat) const noexcept {
   CellHit h;
   if (!hot_.locate(lon, lat, h)) return SampleStatus::outside;

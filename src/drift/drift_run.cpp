@@ -11,6 +11,7 @@
 #include "cullcast/currents/gridded_field.hpp"
 #include "cullcast/drift/backward_drift.hpp"
 #include "cullcast/drift/drift_step.hpp"
+#include "cullcast/drift/grid_stepper.hpp"
 #include "cullcast/drift/track_writer.hpp"
 #include "cullcast/reefs/reef_lookup.hpp"
 
@@ -209,6 +210,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                                            tables_for(study, field, reefs, sources).attributes);
   }
 
+  GridStepper grid_stepper(field, earth);
   const auto stage_start = Clock::now();
   std::vector<std::uint8_t> settled_now;
   for (std::size_t e = 0; e < study.spawning.size(); ++e) {
@@ -239,6 +241,8 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       const double room = field.time_end_s() - step.event_start_s;
       steps = std::max(steps, static_cast<std::uint32_t>(std::floor(room / step.dt_s + 1e-9)));
     }
+    // The core path on a uniform regular grid has a faster stepper (grid_stepper.hpp).
+    const bool on_grid = !use_extras && GridStepper::applies(field, p);
     EventSummary es;
     es.label = event.label;
     std::uint64_t alive = 0, settled = 0, released = 0;
@@ -247,8 +251,9 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       const double t0 = step.event_start_s + k * step.dt_s;
       field.prepare(t0, t0 + step.dt_s);
       const StepTally tally =
-          use_extras ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
-                     : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
+          use_extras   ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
+          : on_grid    ? grid_stepper.step(p, k, step, clock, lookup, rng, settled_now)
+                       : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
       if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);
       es.particle_steps += tally.particle_steps;
       summary.land_contacts += tally.land_contacts;

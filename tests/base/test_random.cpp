@@ -55,3 +55,22 @@ TEST_CASE("streams differ by every key component and repeat exactly") {
   CHECK(u[0] > 0);
   CHECK(u[0] < 1);
 }
+
+TEST_CASE("normal2_batch gives normal2's deviates bit for bit") {
+  const cullcast::CounterRandom rng(987654321ULL);
+  constexpr int kCount = 37;  // not a multiple of the vector width
+  std::uint32_t source[kCount], particle[kCount];
+  double z0[kCount], z1[kCount];
+  for (int l = 0; l < kCount; ++l) {
+    source[l] = static_cast<std::uint32_t>(l % 5);
+    particle[l] = static_cast<std::uint32_t>(1000 + 7 * l);
+  }
+  for (std::uint32_t step : {0u, 1u, 4242u}) {
+    rng.normal2_batch(3, source, particle, kCount, step, cullcast::Draw::diffusion, z0, z1);
+    for (int l = 0; l < kCount; ++l) {
+      const auto z = rng.normal2({3, source[l], particle[l]}, step, cullcast::Draw::diffusion);
+      CHECK(z0[l] == z[0]);
+      CHECK(z1[l] == z[1]);
+    }
+  }
+}

@@ -4,8 +4,11 @@
 // A draw is a pure function of (seed, event, source, particle, step, draw), so
 // results do not depend on thread count, rank count or resume points.
 #include <array>
+#include <bit>
 #include <cmath>
 #include <cstdint>
+
+#include "cullcast/base/plain_math.hpp"
 
 namespace cullcast {
 
@@ -56,26 +59,74 @@ class CounterRandom {
     return philox4x32_10({id.particle, id.source, step, tail}, key_);
   }
 
-  // Two independent uniforms in the open interval (0, 1), 53-bit resolution
-  // is not needed here: 32-bit words give a spacing of 2^-32.
+  // Two independent uniforms in the open interval (0, 1), 52-bit resolution.
   std::array<double, 2> uniform2(const StreamId& id, std::uint32_t step, Draw draw) const noexcept {
     const PhiloxCounter w = words(id, step, draw);
     return {to_open_unit(w[0], w[1]), to_open_unit(w[2], w[3])};
   }
 
-  // Two independent standard normal deviates (Box–Muller).
+  // Two independent standard normal deviates (Box–Muller: Box & Muller 1958,
+  // Ann. Math. Statist. 29:610–611), with the portable log and sin/cos of
+  // plain_math.hpp so the deviates are the same bits on every machine.
   std::array<double, 2> normal2(const StreamId& id, std::uint32_t step, Draw draw) const noexcept {
     const auto u = uniform2(id, step, draw);
-    const double radius = std::sqrt(-2.0 * std::log(u[0]));
-    const double angle = 6.283185307179586 * u[1];
-    return {radius * std::cos(angle), radius * std::sin(angle)};
+    std::array<double, 2> z;
+    box_muller(u[0], u[1], z[0], z[1]);
+    return z;
+  }
+
+  // normal2() for a batch of particles of one event: z0[l], z1[l] are the
+  // deviates of particle (source[l], particle[l]), bit for bit the same as
+  // normal2() gives. Written as plain loops over the batch so the compiler
+  // can vectorise them (the drift's grid stepper calls this per batch).
+  void normal2_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle, int count,
+                     std::uint32_t step, Draw draw, double* z0, double* z1) const noexcept {
+    const std::uint32_t tail = (event << 16) | (static_cast<std::uint32_t>(draw) & 0xFFFFu);
+    std::uint32_t keys[10][2];  // the key schedule, the same for every lane
+    keys[0][0] = key_[0], keys[0][1] = key_[1];
+    for (int r = 1; r < 10; ++r) keys[r][0] = keys[r - 1][0] + 0x9E3779B9u, keys[r][1] = keys[r - 1][1] + 0xBB67AE85u;
+#pragma omp simd
+    for (int l = 0; l < count; ++l) {
+      std::uint32_t c0 = particle[l], c1 = source[l], c2 = step, c3 = tail;
+      // The ten rounds of philox4x32_10(), written out (a loop inside the
+      // batch loop would keep the compiler from vectorising it).
+      auto round = [&](std::uint32_t k0, std::uint32_t k1) noexcept {
+        const std::uint64_t p0 = static_cast<std::uint64_t>(0xD2511F53u) * c0;
+        const std::uint64_t p1 = static_cast<std::uint64_t>(0xCD9E8D57u) * c2;
+        const auto hi0 = static_cast<std::uint32_t>(p0 >> 32), lo0 = static_cast<std::uint32_t>(p0);
+        const auto hi1 = static_cast<std::uint32_t>(p1 >> 32), lo1 = static_cast<std::uint32_t>(p1);
+        c0 = hi1 ^ c1 ^ k0;
+        c1 = lo1;
+        c2 = hi0 ^ c3 ^ k1;
+        c3 = lo0;
+      };
+      round(keys[0][0], keys[0][1]);
+      round(keys[1][0], keys[1][1]);
+      round(keys[2][0], keys[2][1]);
+      round(keys[3][0], keys[3][1]);
+      round(keys[4][0], keys[4][1]);
+      round(keys[5][0], keys[5][1]);
+      round(keys[6][0], keys[6][1]);
+      round(keys[7][0], keys[7][1]);
+      round(keys[8][0], keys[8][1]);
+      round(keys[9][0], keys[9][1]);
+      box_muller(to_open_unit(c0, c1), to_open_unit(c2, c3), z0[l], z1[l]);
+    }
   }
 
  private:
-  // 53-bit uniform in (0, 1) from two words; never exactly 0 or 1.
+  // 52-bit uniform in (0, 1) from two words; never exactly 0 or 1. The
+  // integer becomes a double through the 2^52 magic number (vectorisable).
   static double to_open_unit(std::uint32_t hi, std::uint32_t lo) noexcept {
-    const std::uint64_t bits = (static_cast<std::uint64_t>(hi) << 21) ^ (lo >> 11);
-    return (static_cast<double>(bits & ((1ULL << 53) - 1)) + 0.5) * 0x1p-53;
+    const std::uint64_t bits = ((static_cast<std::uint64_t>(hi) << 20) ^ (lo >> 12)) & ((std::uint64_t{1} << 52) - 1);
+    return (std::bit_cast<double>(bits | 0x4330000000000000u) - 0x1p52 + 0.5) * 0x1p-52;
+  }
+  static void box_muller(double u0, double u1, double& z0, double& z1) noexcept {
+    const double radius = std::sqrt(-2.0 * plain_log(u0));
+    double s, c;
+    plain_sincos_turns(u1, s, c);
+    z0 = radius * c;
+    z1 = radius * s;
   }
   PhiloxKey key_;
 };

@@ -121,6 +121,15 @@ class CurrentField {
   // scans; `speeds` (optional) receives the speed of every wet node, m/s.
   FrameScan scan_frame(std::size_t index, std::vector<float>* speeds = nullptr);
 
+  // For the drift's grid stepper: the prepared frames as plain data (valid
+  // until the next prepare()), and the velocities at every node of the
+  // horizontal grid at one time and depth, interpolated as sample() does
+  // (linear in time and depth; masked nodes 0), as interleaved (u, v) floats
+  // in m/s, row by row from the first latitude: ny·nx·2 values. Returns false
+  // when t is outside the prepared frames.
+  const FlowSampler& sampler() const noexcept { return hot_; }
+  bool horizontal_slice(double t_s, double depth_m, std::vector<float>& uv) const;
+
  private:
   struct Impl;
   CurrentField();

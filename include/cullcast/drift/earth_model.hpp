@@ -59,14 +59,7 @@ class EarthModel {
         s = std::sin(lat_deg * kRad);
         c = std::cos(lat_deg * kRad);
       }
-      if (earth_.e2_ == 0) {
-        north = 1.0 / (earth_.a_ * kRad);
-        east = north / c;
-        return;
-      }
-      const double w = 1 - earth_.e2_ * s * s, root = std::sqrt(w);
-      north = w * root / (earth_.a_ * (1 - earth_.e2_) * kRad);
-      east = root / (earth_.a_ * c * kRad);
+      earth_.degrees_per_metre_at(s, c, east, north);
     }
 
    private:
@@ -74,7 +67,21 @@ class EarthModel {
     double lat0_, s0_, c0_;
   };
   Local near(double lat0_deg) const noexcept { return Local(*this, lat0_deg); }
+
+  // {degrees east per metre, degrees north per metre} from the sine and
+  // cosine of the latitude (callers that already have them).
+  void degrees_per_metre_at(double sin_lat, double cos_lat, double& east, double& north) const noexcept {
+    if (e2_ == 0) {
+      north = 1.0 / (a_ * kRad);
+      east = north / cos_lat;
+      return;
+    }
+    const double w = 1 - e2_ * sin_lat * sin_lat, root = std::sqrt(w);
+    north = w * root / (a_ * (1 - e2_) * kRad);
+    east = root / (a_ * cos_lat * kRad);
+  }
   double equatorial_radius_m() const noexcept { return a_; }
+  double eccentricity_squared() const noexcept { return e2_; }
 
  private:
   static constexpr double kRad = 3.14159265358979323846 / 180.0;

@@ -1,0 +1,51 @@
+#pragma once
+// The core drift step (2-D, constant Kh, no environment effects) specialised
+// for a regular grid with uniform spacing, the common case of a study.
+// Same rules and the same random streams as drift_step() (drift_step.hpp);
+// faster because of three choices (docs/performance.md):
+//  - time (and depth) interpolation is done once per RK stage time on the
+//    grid (CurrentField::horizontal_slice), not once per particle and stage;
+//  - on fine grids the metres→degrees factor of each row is folded into
+//    those slices (bilinear interpolation of u/cos φ; the relative
+//    difference bound is checked, see the constructor); on coarse grids the
+//    sine and cosine of each row's latitude are tabulated, so the factor at
+//    a particle is a short Taylor step from its row (no library call);
+//  - the random walk's Box–Muller uses the inline log and sin/cos of
+//    plain_math.hpp.
+// The results equal drift_step()'s up to floating-point rounding (the order
+// of interpolation differs), which the tests bound.
+#include <cstdint>
+#include <vector>
+
+#include "cullcast/currents/current_field.hpp"
+#include "cullcast/drift/drift_step.hpp"
+#include "cullcast/reefs/reef_lookup.hpp"
+
+namespace cullcast::drift {
+
+class GridStepper {
+ public:
+  // True when this path applies: a regular grid with uniform lon and lat
+  // spacing (at most 2 degrees), and every particle of the set at one depth.
+  static bool applies(const currents::CurrentField& field, const ParticleSet& particles);
+
+  GridStepper(const currents::CurrentField& field, const EarthModel& earth);
+
+  // One step, with drift_step()'s contract. The field must be prepared for
+  // [event_start + step·dt, event_start + (step+1)·dt].
+  StepTally step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
+                 const reefs::ReefLookup& reefs, const CounterRandom& rng,
+                 std::vector<std::uint8_t>& settled_now);
+
+ private:
+  const currents::CurrentField& field_;
+  const EarthModel& earth_;
+  std::vector<float> stage_uv_[3];         // (u, v) at the stage times t0, t0 + dt/2, t0 + dt
+  std::vector<double> row_sin_, row_cos_;  // sine and cosine of each row's latitude
+  // Fine grids: the slices hold degrees/s (the metric folded in per row).
+  bool folded_ = false;
+  std::vector<double> row_east_, row_north_;                   // degrees per metre at each row
+  std::vector<double> row_m_per_deg_lon_, row_m_per_deg_lat_;  // metres per degree (speeds)
+};
+
+}  // namespace cullcast::drift
