@@ -2,8 +2,9 @@
 // with the NumPy baseline (bench/numpy_drift_baseline.py, bench/bench_compare.py):
 // reads CF-NetCDF currents through currents::CurrentField, a reef layer
 // through reefs::ReefSet/ReefLookup, and a particle file, then runs
-// drift::drift_step (RK4, random walk, land hold, loss, constant-hazard weight
-// decay, reef look-up, settlement) for a number of steps.
+// the production step as run_drift chooses it (drift::GridStepper on a uniform
+// regular grid, else drift::drift_step: RK4, random walk, land hold, loss,
+// constant-hazard weight decay, reef look-up, settlement) for a number of steps.
 //
 //   bench_drift_file --currents F.nc[,G.nc...] --reefs REEFS.geojson --particles P.bin
 //                    [--steps 144] [--dt 600] [--kh 1] [--threads 1] [--precompetent-days 0]
@@ -38,6 +39,7 @@
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_step.hpp"
+#include "cullcast/drift/grid_stepper.hpp"
 #include "cullcast/reefs/reef_lookup.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 
@@ -172,6 +174,9 @@ int main(int argc, char** argv) try {
   s.kh_m2_s = o.kh_m2_s;
   const CounterRandom rng(o.seed);
 
+  // As run_drift: the grid stepper where it applies (uniform regular grid).
+  drift::GridStepper stepper(field, earth);
+  const bool on_grid = drift::GridStepper::applies(field, p);
   std::vector<std::uint8_t> now;
   drift::StepTally total;
   double step_s = 0, prepare_s = 0;
@@ -182,7 +187,8 @@ int main(int argc, char** argv) try {
     field.prepare(t0, t0 + s.dt_s);
     const auto b = std::chrono::steady_clock::now();
     const std::clock_t cpu0 = std::clock();
-    const auto tally = drift::drift_step(p, k, s, clock, earth, field, lookup, rng, now);
+    const auto tally = on_grid ? stepper.step(p, k, s, clock, lookup, rng, now)
+                               : drift::drift_step(p, k, s, clock, earth, field, lookup, rng, now);
     const auto c = std::chrono::steady_clock::now();
     step_cpu_s += static_cast<double>(std::clock() - cpu0) / CLOCKS_PER_SEC;
     prepare_s += std::chrono::duration<double>(b - a).count();
