@@ -3,6 +3,8 @@
 #include <atomic>
 #include <stdexcept>
 #include <system_error>
+#include <csignal>
+#include <cerrno>
 #include <unistd.h>
 
 namespace cullcast {
@@ -14,6 +16,30 @@ std::filesystem::path temp_name_for(const std::filesystem::path& target) {
                                  std::to_string(counter++));
 }
 }  // namespace
+
+std::size_t remove_stale_temporaries(const std::filesystem::path& dir) {
+  std::size_t removed = 0;
+  std::error_code ec;
+  for (const auto& entry : std::filesystem::directory_iterator(dir, ec)) {
+    const std::string name = entry.path().filename().string();
+    const auto mark = name.rfind(".part-");
+    if (name.empty() || name[0] != '.' || mark == std::string::npos) continue;
+    const std::string rest = name.substr(mark + 6);  // "<pid>-<counter>"
+    const auto dash = rest.find('-');
+    if (dash == std::string::npos || dash == 0) continue;
+    long pid = 0;
+    try {
+      pid = std::stol(rest.substr(0, dash));
+    } catch (const std::exception&) {
+      continue;
+    }
+    if (pid <= 0 || pid == ::getpid()) continue;
+    if (::kill(static_cast<pid_t>(pid), 0) == 0 || errno != ESRCH) continue;  // alive (or not ours to judge)
+    std::error_code ignored;
+    if (std::filesystem::remove(entry.path(), ignored)) ++removed;
+  }
+  return removed;
+}
 
 AtomicFile::AtomicFile(std::filesystem::path target)
     : target_(std::move(target)), temp_(temp_name_for(target_)) {}

@@ -31,7 +31,7 @@ int code(ExitCode c) { return static_cast<int>(c); }
 }  // namespace
 
 int run(int argc, const char* const* argv, std::ostream& out, std::ostream& err) {
-  CliContext ctx{out, err, 0, false, {}, {}};
+  CliContext ctx{out, err, 0, false, {}, false, 5.0, {}};
   CLI::App app{
       "cullcast: larval connectivity and cull prioritisation for coral-eating starfish "
       "outbreaks",

@@ -18,11 +18,18 @@ struct CliContext {
   int threads = 0;                     // 0 = OpenMP default
   bool quiet = false;                  // no progress, no summaries
   std::vector<std::string> overrides;  // --set section.key=value
+  // Drift checkpoints (disperse, run): continue an interrupted run, and how
+  // often (wall-clock minutes) to save the state.
+  bool resume = false;
+  double checkpoint_minutes = 5.0;
   std::function<int()> action;         // set by the chosen subcommand
 
   study::Study load(const std::string& scenario) const;
   bool show_progress() const;  // a terminal on stderr and not --quiet
 };
+
+// Adds --resume and --checkpoint-minutes to a command that drifts larvae.
+void add_checkpoint_options(CLI::App& cmd, CliContext& ctx);
 
 // One function per subcommand (one file each: cmd_<name>.cpp).
 void add_run_command(CLI::App& app, CliContext& ctx);

@@ -14,6 +14,7 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
       "Example:\n  cullcast run scenarios/lantern-reach.toml --threads 2");
   auto scenario = std::make_shared<std::string>();
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
+  add_checkpoint_options(*cmd, ctx);
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
       const study::Study study = ctx.load(*scenario);

@@ -3,8 +3,10 @@
 #include <omp.h>
 
 #include <cstdio>
+#include <filesystem>
 #include <ostream>
 
+#include "cullcast/base/atomic_file.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
@@ -50,6 +52,16 @@ void print_summary(std::ostream& out, const drift::DriftSummary& s) {
 
 }  // namespace
 
+void add_checkpoint_options(CLI::App& cmd, CliContext& ctx) {
+  cmd.add_flag("--resume", ctx.resume,
+               "Continue an interrupted drift from <outputs>/drift.checkpoint (same scenario, same --set); "
+               "results are identical to an uninterrupted run");
+  cmd.add_option("--checkpoint-minutes", ctx.checkpoint_minutes,
+                 "Save the drift state every this many minutes of wall-clock time (0 = never)")
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
+}
+
 drift::DriftSummary run_disperse_stage(const CliContext& ctx, const study::Study& study) {
   if (!ctx.quiet) {
     ctx.out << "Study \"" << study.study.name << "\" (seed " << study.study.seed << ", "
@@ -65,8 +77,24 @@ drift::DriftSummary run_disperse_stage(const CliContext& ctx, const study::Study
             << sources.size() << " release sources\n";
   }
   ProgressDisplay display(ctx.err, ctx.show_progress(), field.calendar());
-  drift::DriftSummary summary =
-      drift::run_drift(study, field, reef_set, sources, [&](const drift::DriftProgress& p) { display(p); });
+  if (std::filesystem::is_directory(study.outputs.dir)) {
+    const std::size_t stale = remove_stale_temporaries(study.outputs.dir);
+    if (stale > 0 && !ctx.quiet) {
+      ctx.err << "cullcast: note: removed " << stale << " unfinished temporary file(s) of an interrupted run from "
+              << study.outputs.dir.string() << "\n";
+    }
+  }
+  drift::CheckpointSettings checkpoint;
+  if (ctx.checkpoint_minutes > 0 || ctx.resume) checkpoint.file = study.outputs.dir / "drift.checkpoint";
+  checkpoint.every_s = ctx.checkpoint_minutes * 60.0;
+  checkpoint.resume = ctx.resume;
+  if (!ctx.resume && !checkpoint.file.empty() && std::filesystem::exists(checkpoint.file) && !ctx.quiet) {
+    ctx.err << "cullcast: note: " << checkpoint.file.string()
+            << " holds the state of an interrupted run; starting afresh (use --resume to continue it)\n";
+  }
+  if (ctx.resume && !ctx.quiet) ctx.out << "  resuming from " << checkpoint.file.string() << "\n";
+  drift::DriftSummary summary = drift::run_drift(
+      study, field, reef_set, sources, [&](const drift::DriftProgress& p) { display(p); }, checkpoint);
   display.finish();
   if (!study.backward.sink.empty()) summary.backward_csv = drift::run_backward(study, field, reef_set);
   for (const auto& w : summary.warnings) ctx.err << "cullcast: warning: " << w << "\n";

@@ -10,6 +10,7 @@
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/gridded_field.hpp"
 #include "cullcast/drift/backward_drift.hpp"
+#include "cullcast/drift/checkpoint.hpp"
 #include "cullcast/drift/drift_step.hpp"
 #include "cullcast/drift/grid_stepper.hpp"
 #include "cullcast/drift/track_writer.hpp"
@@ -173,7 +174,7 @@ void check_time_coverage(const study::Study& study, const currents::CurrentField
 
 DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                        const reefs::ReefSet& reefs, const std::vector<reefs::ReleaseSource>& sources,
-                       const ProgressFn& progress) {
+                       const ProgressFn& progress, const CheckpointSettings& checkpoint) {
   check_time_coverage(study, field);
   DriftSummary summary;
   const auto& calendar = field.calendar();
@@ -211,19 +212,86 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
   }
 
   GridStepper grid_stepper(field, earth);
+  // Checkpoints (checkpoint.hpp): the records so far and the finished events
+  // are kept so a checkpoint can hold them; not with tracks (the track file
+  // cannot be continued).
+  const bool checkpointing = !checkpoint.file.empty() && !tracks;
+  const std::uint64_t fingerprint = checkpointing || checkpoint.resume ? study_fingerprint(study) : 0;
+  std::vector<SettlementRecord> records_so_far;
+  std::vector<FinishedEvent> finished;
+  std::optional<DriftCheckpoint> resumed;
+  if (checkpoint.resume) {
+    if (tracks) {
+      throw InputError(study.scenario_file.string() + ": [tracks] is on; a run that writes tracks cannot be " +
+                       "resumed (run again without --resume)");
+    }
+    resumed = read_checkpoint(checkpoint.file, fingerprint);
+    if (resumed->event >= study.spawning.size()) {
+      throw InputError(checkpoint.file.string() + ": drift checkpoint is for event " +
+                       std::to_string(resumed->event + 1) + " but the scenario has " +
+                       std::to_string(study.spawning.size()));
+    }
+    for (const auto& r : resumed->records) log.add(r);
+    records_so_far = resumed->records;
+    summary.land_contacts = resumed->land_contacts;
+    summary.max_courant = resumed->max_courant;
+    summary.warnings = resumed->warnings;
+  }
+  auto finish_event = [&](std::uint32_t e, const std::string& label, std::uint64_t particle_steps,
+                          const std::vector<FateCounts>& per_source, double seconds) {
+    EventSummary es;
+    es.label = label;
+    es.particle_steps = particle_steps;
+    es.seconds = seconds;
+    for (std::size_t s = 0; s < per_source.size(); ++s) {
+      log.set_fates(e, static_cast<std::uint32_t>(s), per_source[s]);
+      FateCounts& c = es.fates;
+      c.released += per_source[s].released;
+      c.settled += per_source[s].settled;
+      c.died += per_source[s].died;
+      c.stranded += per_source[s].stranded;
+      c.lost += per_source[s].lost;
+      c.drifting += per_source[s].drifting;
+      c.settled_weight += per_source[s].settled_weight;
+    }
+    summary.particle_steps += es.particle_steps;
+    FateCounts& t = summary.totals;
+    t.released += es.fates.released;
+    t.settled += es.fates.settled;
+    t.died += es.fates.died;
+    t.stranded += es.fates.stranded;
+    t.lost += es.fates.lost;
+    t.drifting += es.fates.drifting;
+    t.settled_weight += es.fates.settled_weight;
+    summary.events.push_back(es);
+    if (checkpointing) finished.push_back({label, particle_steps, per_source});
+    return es;
+  };
+  std::size_t first_event = 0;
+  if (resumed) {
+    for (std::size_t e = 0; e < resumed->finished.size(); ++e) {
+      const FinishedEvent& f = resumed->finished[e];
+      finish_event(static_cast<std::uint32_t>(e), f.label, f.particle_steps, f.fates, 0.0);
+    }
+    first_event = resumed->event;
+  }
+
   const auto stage_start = Clock::now();
+  auto last_checkpoint = Clock::now();
   std::vector<std::uint8_t> settled_now;
-  for (std::size_t e = 0; e < study.spawning.size(); ++e) {
+  for (std::size_t e = first_event; e < study.spawning.size(); ++e) {
     const auto& event = study.spawning[e];
     const auto event_start = Clock::now();
     step.event = static_cast<std::uint32_t>(e);
     step.event_start_s = calendar.to_seconds(event.start);
-    ParticleSet p = particles_from(reefs::plan_release(reefs, sources, event, step.event,
-                                                       study.reefs, study.study.seed));
-    if (extras.environment.any()) p.enable_development();
+    const bool resuming_this = resumed && e == resumed->event;
+    ParticleSet p = resuming_this ? std::move(resumed->particles)
+                                  : particles_from(reefs::plan_release(reefs, sources, event, step.event,
+                                                                       study.reefs, study.study.seed));
+    if (extras.environment.any() && !resuming_this) p.enable_development();
     if (tracks) tracks->begin_event(step.event, p);
     std::uint64_t off_water = 0;
-    for (std::size_t i = 0; i < p.size(); ++i) {
+    for (std::size_t i = 0; i < p.size() && !resuming_this; ++i) {
       if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) ++off_water;
     }
     if (off_water > 0) {
@@ -246,8 +314,16 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     EventSummary es;
     es.label = event.label;
     std::uint64_t alive = 0, settled = 0, released = 0;
+    std::uint32_t first_step = 0;
+    if (resuming_this) {
+      alive = resumed->alive;
+      settled = resumed->settled;
+      released = resumed->released;
+      es.particle_steps = resumed->event_particle_steps;
+      first_step = resumed->next_step;
+    }
     auto last_report = Clock::now();
-    for (std::uint32_t k = 0; k < steps; ++k) {
+    for (std::uint32_t k = first_step; k < steps; ++k) {
       const double t0 = step.event_start_s + k * step.dt_s;
       field.prepare(t0, t0 + step.dt_s);
       const StepTally tally =
@@ -270,8 +346,26 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
           if (!settled_now[i]) continue;
           const double release = step.event_start_s + p.release_s[i];
           const double when = t0 + step.dt_s;
-          log.add({step.event, p.source[i], p.reef[i], release, when, when - release, p.weight[i]});
+          const SettlementRecord record{step.event, p.source[i], p.reef[i], release, when, when - release, p.weight[i]};
+          log.add(record);
+          if (checkpointing) records_so_far.push_back(record);
         }
+      }
+      if (checkpointing && seconds_since(last_checkpoint) >= checkpoint.every_s && k + 1 < steps) {
+        DriftCheckpoint c;
+        c.fingerprint = fingerprint;
+        c.event = step.event;
+        c.next_step = k + 1;
+        c.particles = p;
+        c.alive = alive, c.settled = settled, c.released = released;
+        c.event_particle_steps = es.particle_steps;
+        c.land_contacts = summary.land_contacts;
+        c.max_courant = summary.max_courant;
+        c.finished = finished;
+        c.records = records_so_far;
+        c.warnings = summary.warnings;
+        write_checkpoint(checkpoint.file, c);
+        last_checkpoint = Clock::now();
       }
       if (progress && (seconds_since(last_report) > 0.25 || k + 1 == steps)) {
         last_report = Clock::now();
@@ -304,35 +398,15 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
         case Fate::drifting: ++c.drifting; break;
       }
     }
-    for (std::size_t s = 0; s < sources.size(); ++s) {
-      log.set_fates(step.event, static_cast<std::uint32_t>(s), per_source[s]);
-      FateCounts& c = es.fates;
-      c.released += per_source[s].released;
-      c.settled += per_source[s].settled;
-      c.died += per_source[s].died;
-      c.stranded += per_source[s].stranded;
-      c.lost += per_source[s].lost;
-      c.drifting += per_source[s].drifting;
-      c.settled_weight += per_source[s].settled_weight;
-    }
-    es.seconds = seconds_since(event_start);
-    summary.particle_steps += es.particle_steps;
-    FateCounts& t = summary.totals;
-    t.released += es.fates.released;
-    t.settled += es.fates.settled;
-    t.died += es.fates.died;
-    t.stranded += es.fates.stranded;
-    t.lost += es.fates.lost;
-    t.drifting += es.fates.drifting;
-    if (es.fates.drifting > 0) {
+    const EventSummary done =
+        finish_event(step.event, event.label, es.particle_steps, per_source, seconds_since(event_start));
+    if (done.fates.drifting > 0) {
       std::ostringstream w;
-      w << event.label << ": " << es.fates.drifting
+      w << event.label << ": " << done.fates.drifting
         << " larvae were still drifting when the stepping ended (currents end at "
         << describe_time(calendar, field.time_end_s()) << "); their fate is unknown";
       summary.warnings.push_back(w.str());
     }
-    t.settled_weight += es.fates.settled_weight;
-    summary.events.push_back(es);
   }
   summary.seconds = seconds_since(stage_start);
   summary.particle_steps_per_s =
@@ -345,6 +419,10 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     summary.warnings.push_back(w.str());
   }
   log.commit();
+  if (!checkpoint.file.empty()) {
+    std::error_code ignored;  // finished: the checkpoint has served
+    fs::remove(checkpoint.file, ignored);
+  }
   summary.records = log.records_written();
   if (tracks) {
     tracks->commit();

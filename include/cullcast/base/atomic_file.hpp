@@ -31,6 +31,11 @@ class AtomicFile {
   bool committed_ = false;
 };
 
+// Removes temporary files in `dir` left by AtomicFile writers whose process is
+// gone (a run killed while writing); files of live processes are kept.
+// Returns how many were removed.
+std::size_t remove_stale_temporaries(const std::filesystem::path& dir);
+
 // Convenience: write a whole text file atomically.
 void write_text_atomically(const std::filesystem::path& target, const std::string& text);
 
