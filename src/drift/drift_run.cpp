@@ -470,6 +470,19 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
   const reefs::ReefLookup lookup(reefs, study.reefs.settle_buffer_m);
   const CounterRandom rng(study.study.seed);
   const double dt = study.motion.dt_minutes * 60.0;
+  // The forward run's optional physics, as far as it has a backward meaning
+  // (backward_drift.hpp): varying Kh, depth band / 3-D, temperature.
+  if (!study.motion.depth_by_age.empty()) {
+    throw InputError(study.scenario_file.string() + ": [backward] cannot follow [motion] depth_by_age (the age " +
+                     "of a larva along a backward path is unknown); run the backward drift from a scenario without " +
+                     "depth_by_age");
+  }
+  FieldSources field_sources;
+  std::string physics;
+  const StepExtras<FieldSources> extras = make_extras(study, field, field_sources, physics);
+  const bool use_extras = needs_extras(study) &&
+                          (extras.depth.moves() || extras.kh_varies() || extras.environment.temperature_on());
+  if (extras.environment.temperature_on()) p.enable_development();
   const Scheme scheme = scheme_from_name(study.motion.scheme);
   BackwardTally tally;
   tally.reef_weight.assign(reefs.reefs().size(), 0.0);
@@ -491,7 +504,11 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
       }
     }
     field.prepare(t0 - dt, t0);
-    backward_step(p, k, t0, dt, study.motion.kh_m2_s, scheme, earth, field, rng, 0xFFFFu, tally);
+    if (use_extras) {
+      backward_step(p, k, t0, dt, study.motion.kh_m2_s, scheme, earth, field, rng, 0xFFFFu, tally, extras);
+    } else {
+      backward_step(p, k, t0, dt, study.motion.kh_m2_s, scheme, earth, field, rng, 0xFFFFu, tally);
+    }
     add_origins(p, (k + 1) * dt, dt, clock, lookup, tally);
   }
   double total = 0;

@@ -91,3 +91,119 @@ TEST_CASE("backward origins are credited inside the competency window only") {
   add_origins(p, 6.0 * 86400, 3600, clock, everywhere, tally);
   CHECK(tally.reef_weight[1] == Approx(4 * 3600 * std::exp(-0.3)));  // past competency
 }
+
+namespace {
+
+// Fields for StepExtras in the backward tests: a sea floor far below, a
+// uniform temperature.
+struct StillFields {
+  double temperature = 28.0;
+  double kh(double, double, double) const noexcept { return std::nan(""); }
+  double kv(double, double, double) const noexcept { return std::nan(""); }
+  double sea_floor_m(double, double) const noexcept { return 1000.0; }
+  double temperature_c(double, double, double, double) const noexcept { return temperature; }
+  double chlorophyll_mg_m3(double, double, double, double) const noexcept { return 1.0; }
+};
+
+// A flow with vertical velocity: solid-body rotation horizontally, w upward.
+struct RisingFlow {
+  double w_m_s = 2e-4;
+  currents::SampleStatus status(double, double) const noexcept { return currents::SampleStatus::water; }
+  currents::FlowSample sample(double, double lon, double lat, double) const noexcept {
+    const double m_per_deg = 6371000.0 * 3.14159265358979323846 / 180;
+    const double x = (lon - 150.0) * m_per_deg, y = (lat + 20.0) * m_per_deg;
+    const double omega = 2 * 3.14159265358979323846 / (2 * 86400.0);  // one turn in 2 days
+    return {-omega * y, omega * x, w_m_s, currents::SampleStatus::water};
+  }
+};
+
+}  // namespace
+
+TEST_CASE("3-D backward then forward drift without diffusion returns to the start depth and position") {
+  // Analytic: with constant w and Kv = 0 the depth changes by -w·dt forwards
+  // and +w·dt backwards, exactly; horizontally RK4's round trip closes to its
+  // local errors (as in the double-gyre case above).
+  const RisingFlow flow;
+  const StillFields fields;
+  study::MotionSettings m;
+  m.depth = "3d";
+  StepExtras<StillFields> extras;
+  extras.fields = &fields;
+  extras.depth = DepthRule(m);
+  extras.kv_m2_s = 0.0;
+  const auto earth = EarthModel::sphere(6371000.0);
+  const CounterRandom rng(9);
+  study::LarvaeSettings l;
+  l.precompetent_days = 30;
+  l.competent_days = 30;
+  l.mortality_per_day = 0;
+  const LarvalClock clock(l);
+  const test::BoxReef none{{0, -1, 0, -1}, 0};
+  ParticleSet p;
+  p.resize(4);
+  for (std::size_t i = 0; i < 4; ++i) {
+    p.lon[i] = 150.05 + 0.02 * static_cast<double>(i);
+    p.lat[i] = -20.03;
+    p.depth_m[i] = 20.0f;
+    p.index[i] = static_cast<std::uint32_t>(i);
+  }
+  const ParticleSet start = p;
+  StepSettings s;
+  s.dt_s = 900;
+  s.kh_m2_s = 0;
+  std::vector<std::uint8_t> now;
+  const int steps = 48;  // 12 hours: 8.64 m up at 2e-4 m/s
+  for (int k = 0; k < steps; ++k) drift_step(p, k, s, clock, earth, flow, none, rng, now, extras);
+  CHECK(p.depth_m[0] == Approx(20.0 - 2e-4 * 900 * steps).margin(1e-3));
+  for (auto& f : p.fate) REQUIRE(f == Fate::drifting);
+  BackwardTally tally;
+  for (int k = 0; k < steps; ++k) {
+    backward_step(p, k, steps * s.dt_s - k * s.dt_s, s.dt_s, 0.0, Scheme::rk4, earth, flow, rng, 0, tally, extras);
+  }
+  const double m_per_deg = 6371000.0 * 3.14159265358979323846 / 180;
+  for (std::size_t i = 0; i < 4; ++i) {
+    CHECK(p.depth_m[i] == Approx(20.0).margin(1e-3));  // float storage
+    CHECK(std::hypot(p.lon[i] - start.lon[i], p.lat[i] - start.lat[i]) * m_per_deg < 1.0);
+  }
+}
+
+TEST_CASE("backward origins with temperature-dependent development use the development time") {
+  // Development rate Q10^((T - T_ref)/10) (docs/methods.md, temperature): at
+  // T = T_ref + 10 °C with Q10 = 2 larvae develop twice as fast, so a larva
+  // spawned 1 day before arrival has 2 days of development: competent for a
+  // 2-day pre-competency period although its real age is 1 day; 2 days back
+  // it reaches the end of competency (4 days of development).
+  study::LarvaeSettings l;
+  l.precompetent_days = 2;
+  l.competent_days = 2;
+  l.mortality_per_day = 0.0;
+  l.reference_temperature_c = 28.0;
+  l.development_q10 = 2.0;
+  const LarvalClock clock(l);
+  StillFields fields;
+  fields.temperature = 38.0;
+  StepExtras<StillFields> extras;
+  extras.fields = &fields;
+  extras.environment = LarvalEnvironment(l, true, false);
+  const auto still = test::make_flow([](double, double, double) { return std::array<double, 2>{0.0, 0.0}; });
+  const auto earth = EarthModel::sphere(6371000.0);
+  const CounterRandom rng(1);
+  const test::BoxReef everywhere{{-1e9, 1e9, -90, 90}, 0};
+  ParticleSet p;
+  p.resize(1);
+  p.fate[0] = Fate::drifting;
+  p.enable_development();
+  BackwardTally tally;
+  tally.reef_weight.assign(1, 0.0);
+  const double dt = 3600;
+  std::vector<double> credited_at;  // backward hours at which origins were credited
+  for (int k = 0; k < 72; ++k) {
+    const double before = tally.reef_weight[0];
+    backward_step(p, k, 1e6 - k * dt, dt, 0.0, Scheme::rk4, earth, still, rng, 0, tally, extras);
+    add_origins(p, (k + 1) * dt, dt, clock, everywhere, tally);
+    if (tally.reef_weight[0] > before) credited_at.push_back((k + 1) * dt / 3600);
+  }
+  REQUIRE(!credited_at.empty());
+  CHECK(credited_at.front() == Approx(24.0));  // 1 day back = 2 days of development
+  CHECK(credited_at.back() == Approx(48.0));   // 2 days back = 4 days: end of competency
+}

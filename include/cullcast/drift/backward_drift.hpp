@@ -11,10 +11,19 @@
 // assumes spawning equally likely at any time (no spawning calendar).
 //
 // Caveat (docs/methods.md "Backward drift"): diffusion is not time-reversible.
-// The random walk is applied backwards with the same variance, which gives
-// the right spread of possible origins for a constant Kh but not the exact
-// adjoint of the forward model (with varying Kh the drift term would change
-// sign); the result is a map of likely origins, not a connectivity column.
+// The backward run solves the adjoint of the forward advection–diffusion
+// equation: advection by −u (and −w in 3-D), the same random walk — with
+// varying Kh or Kv the drift-corrected (Visser 1997) walk keeps its +∇K
+// correction, as the adjoint operator ∇·(K∇·) is self-adjoint. The result is
+// a map of likely origins, not a column of the connectivity matrix.
+//
+// Optional physics (StepExtras): varying Kh, depth band and full 3-D as
+// forwards. With temperature-dependent development each particle carries the
+// development time accumulated on its backward path, and the competency
+// window is tested on that (a larva spawned at backward time τ arrives with
+// exactly that development). Not used backwards, because they depend on the
+// unknown age along the path: the age-dependent depth table, and the food
+// effect on completing development (docs/methods.md).
 #include <cmath>
 #include <cstdint>
 #include <vector>
@@ -32,10 +41,10 @@ struct BackwardTally {
 // One backward step of length dt_s (> 0) ending (in backward time) at
 // t0_model − dt_s. Only `drifting` particles move; advection with the scheme
 // at −dt, then a Gaussian walk of variance 2·Kh·dt; land holds the step.
-template <class Flow>
+template <class Flow, class Extras = NoExtras>
 void backward_step(ParticleSet& p, std::uint32_t step, double t0_model_s, double dt_s, double kh_m2_s,
                    Scheme scheme, const EarthModel& earth, const Flow& flow, const CounterRandom& rng,
-                   std::uint32_t event, BackwardTally& tally) {
+                   std::uint32_t event, BackwardTally& tally, const Extras& extras = Extras{}) {
   const double walk = std::sqrt(2.0 * kh_m2_s * dt_s);
   const std::int64_t n = static_cast<std::int64_t>(p.size());
   std::uint64_t lost = 0;
@@ -55,8 +64,17 @@ void backward_step(ParticleSet& p, std::uint32_t step, double t0_model_s, double
       return {f.u_m_s * east, f.v_m_s * north};
     };
     Vec2 x = advance(scheme, rate, t0_model_s, start, -dt_s);
-    if (walk > 0) {
-      const auto z = rng.normal2({event, p.source[i], p.index[i]}, step, Draw::diffusion);
+    const StreamId id{event, p.source[i], p.index[i]};
+    bool walked = false;
+    if constexpr (Extras::active) {
+      if (extras.kh_varies()) {
+        extras.walk_horizontal(flow, t0_model_s - dt_s, x, depth, metric, rng.normal2(id, step, Draw::diffusion),
+                               dt_s);
+        walked = true;
+      }
+    }
+    if (!walked && walk > 0) {
+      const auto z = rng.normal2(id, step, Draw::diffusion);
       double east, north;
       metric.degrees_per_metre(x[1], east, north);
       x[0] += z[0] * walk * east;
@@ -71,6 +89,18 @@ void backward_step(ParticleSet& p, std::uint32_t step, double t0_model_s, double
     if (where == currents::SampleStatus::land) x = start;
     p.lon[i] = x[0];
     p.lat[i] = x[1];
+    if constexpr (Extras::active) {
+      const double t_mid = t0_model_s - 0.5 * dt_s;
+      if (extras.depth.moves()) {
+        const double r = rng.normal2(id, step, Draw::vertical)[0];
+        p.depth_m[i] = static_cast<float>(extras.move_vertically(flow, t_mid, dt_s, x, depth, 0.0, r, true));
+      }
+      if (extras.environment.temperature_on() && !p.development_s.empty()) {
+        const double rate_now =
+            extras.environment.development_rate(extras.fields->temperature_c(t_mid, x[0], x[1], depth));
+        p.development_s[i] += static_cast<float>(rate_now * dt_s);
+      }
+    }
   }
   tally.lost += lost;
 }
@@ -84,7 +114,10 @@ void add_origins(const ParticleSet& p, double elapsed_s, double dt_s, const Larv
   for (std::size_t i = 0; i < p.size(); ++i) {
     if (p.fate[i] != Fate::drifting) continue;
     const double tau_s = elapsed_s - p.release_s[i];
-    if (!clock.competent(tau_s)) continue;
+    // With temperature-dependent development: the development accumulated
+    // on the backward path decides competency; survival stays in real age.
+    const double development_s = p.development_s.empty() ? tau_s : p.development_s[i];
+    if (!clock.competent(development_s)) continue;
     const int r = reefs.reef_at(p.lon[i], p.lat[i]);
     if (r >= 0 && static_cast<std::size_t>(r) < tally.reef_weight.size()) {
       tally.reef_weight[r] += clock.survival(tau_s) * dt_s * p.weight[i];

@@ -102,9 +102,12 @@ struct StepExtras {
 
   // New depth after one step at horizontal position x (already moved).
   // `age_s` sets the band; `r` is one standard normal draw.
+  // `backward`: a step of backward drift (backward_drift.hpp): advection by
+  // −w; the walk is unchanged (its drift correction keeps its sign in the
+  // adjoint equation).
   template <class Flow>
   double move_vertically(const Flow& flow, double t_mid_s, double dt_s, const Vec2& x, double z,
-                         double age_s, double r) const noexcept {
+                         double age_s, double r, bool backward = false) const noexcept {
     const DepthMode mode = depth.mode();
     const DepthBand band = depth.band_at(age_s);
     if (mode == DepthMode::fixed) return depth.has_table() ? 0.5 * (band.top_m + band.bottom_m) : z;
@@ -117,7 +120,7 @@ struct StepExtras {
     double bottom = fields ? fields->sea_floor_m(x[0], x[1]) : std::numeric_limits<double>::infinity();
     if (std::isnan(bottom)) bottom = z;  // no wet level known here: stay
     const double w = flow.sample(t_mid_s, x[0], x[1], z).w_m_s;
-    double znew = z - w * dt_s;
+    double znew = backward ? z + w * dt_s : z - w * dt_s;
     if (kv_mode == KvMode::field) {
       auto kv_value = [&](double zz) {
         const double k = fields->kv(x[0], x[1], zz);
