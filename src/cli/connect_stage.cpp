@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
+#include <optional>
 #include <numeric>
 #include <ostream>
 #include <sstream>
@@ -11,6 +12,7 @@
 #include "cullcast/network/stepping_stones.hpp"
 #include "cullcast/network/binomial_interval.hpp"
 #include "cullcast/network/connectivity_writer.hpp"
+#include "cullcast/network/origin_comparison.hpp"
 #include "cullcast/network/persistence.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
@@ -199,6 +201,16 @@ ConnectSummary run_connect_stage(const CliContext& ctx, const study::Study& stud
     network::write_attribution_csv(dir / "attribution.csv", c, attributions);
     summary.outputs.push_back(dir / "attribution.csv");
   }
+  // The backward drift's origins of the [backward] sink beside the matrix
+  // attribution of the same reef (origin_comparison.hpp).
+  std::optional<network::OriginComparison> origins_compared;
+  const fs::path backward_csv = dir / "backward_origins.csv";
+  if (!study.backward.sink.empty() && fs::exists(backward_csv)) {
+    const network::Attribution matrix = network::attribute_sink(c, study.backward.sink, output);
+    origins_compared = network::compare_origins(c, matrix, network::read_backward_origins(backward_csv));
+    network::write_origin_comparison_csv(dir / "origins_compared.csv", *origins_compared);
+    summary.outputs.push_back(dir / "origins_compared.csv");
+  }
   // Stepping-stone routes into the high-priority reefs (priority >= 0.5; every
   // reef when there are none and the network is small enough for all pairs).
   std::vector<int> route_sinks;
@@ -255,6 +267,12 @@ ConnectSummary run_connect_stage(const CliContext& ctx, const study::Study& stud
                 << " % (events " << fixed(100 * o.event_min, 0) << "-" << fixed(100 * o.event_max, 0) << " %)";
       }
       ctx.out << (a.origins.empty() ? " no larvae settled there\n" : "\n");
+    }
+    if (origins_compared) {
+      ctx.out << "  origins of " << origins_compared->sink_id
+              << ", matrix attribution vs backward drift: total variation distance "
+              << fixed(origins_compared->total_variation, 2) << ", " << origins_compared->top5_shared
+              << " of the top five shared (origins_compared.csv)\n";
     }
   }
   return summary;

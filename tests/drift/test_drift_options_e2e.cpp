@@ -711,3 +711,27 @@ TEST_CASE("cullcast disperse prints where it wrote tracks and backward origins")
   CHECK(fs::equivalent(origins, w.dir / "out" / "backward_origins.csv"));
   CHECK(text.find("trajectories") != std::string::npos);
 }
+
+TEST_CASE("cullcast connect puts the backward origins beside the matrix attribution") {
+  const fs::path exe = CULLCAST_EXE;
+  REQUIRE(fs::exists(exe));
+  Workspace w("origins-compared");
+  w.write_reefs(true);  // WEST upstream of EAST in the eastward current
+  CurrentsSpec c;
+  w.write_currents(c);
+  const fs::path scenario =
+      w.scenario(c.name, "", "", "[backward]\nsink = \"EAST\"\narrival = 2026-12-05T00:00:00Z\nlarvae = 100\n");
+  const fs::path out = w.dir / "stdout.txt", err = w.dir / "stderr.txt";
+  const int rc = shell(exe.string() + " disperse " + scenario.string() + " > " + out.string() + " 2> " +
+                       err.string() + " && " + exe.string() + " connect " + scenario.string() + " >> " +
+                       out.string() + " 2>> " + err.string());
+  const std::string text = slurp(out);
+  INFO("stdout:\n" << text << "\nstderr:\n" << slurp(err));
+  REQUIRE(rc == 0);
+  const std::string csv = slurp(w.dir / "out" / "origins_compared.csv");
+  CHECK(csv.rfind("sink_reef_id,origin_id,matrix_share,matrix_event_min,matrix_event_max,backward_share\n", 0) == 0);
+  // Both methods name WEST as the only origin of EAST's settlers here: shares 1 and 1.
+  CHECK(csv.find("\nEAST,WEST,1,1,1,1\n") != std::string::npos);
+  CHECK(csv.find("total variation distance between the two share lists: 0 ") != std::string::npos);
+  CHECK(text.find("matrix attribution vs backward drift") != std::string::npos);
+}
