@@ -11,8 +11,11 @@
 #include <stdexcept>
 #include <string>
 
+#include "cullcast/base/error.hpp"
 #include "cullcast/currents/calendar.hpp"
 #include "cullcast/currents/cf_time.hpp"
+#include "cullcast/currents/current_field.hpp"
+#include "currents_test_util.hpp"
 
 using namespace cullcast;
 using namespace cullcast::currents;
@@ -58,5 +61,27 @@ TEST_CASE("years are supported up to kMaxCalendarYear either way") {
                      -std::numeric_limits<double>::infinity(), 1e300, -1e300}) {
       CHECK_THROWS_AS(c.to_civil(s), std::invalid_argument);
     }
+  }
+}
+
+TEST_CASE("a currents file whose times lie beyond the supported years is bad input") {
+  // Finite values (read_all refuses NaN) that land past year 1,000,000:
+  // formatting them for messages was undefined behaviour before.
+  using namespace cullcast::currents::testing;
+  ScratchDir dir;
+  RegularSpec spec;
+  spec.lon = {150, 150.5, 151};
+  spec.lat = {-20.5, -20, -19.5};
+  spec.time = {0, 1e300, 2e300};
+  spec.time_units = "days since 2026-12-01";
+  const std::string file = ncgen(dir, "far", regular_cdl(spec));
+  study::CurrentsSettings settings;
+  settings.files.emplace_back(file);
+  try {
+    (void)CurrentField::open(settings);
+    FAIL("no error");
+  } catch (const InputError& e) {
+    CHECK_THAT(e.what(), Catch::Matchers::Contains("far.nc") && Catch::Matchers::Contains("time value") &&
+                             Catch::Matchers::Contains("beyond year"));
   }
 }
