@@ -16,7 +16,7 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      const study::Study study = ctx.load(*scenario);
+      const study::Study study = ctx.load_for_outputs(*scenario, "run");
       run_disperse_stage(ctx, study);
       run_connect_stage(ctx, study);
       if (study.cull.present) run_prioritise_stage(ctx, study);
