@@ -44,13 +44,28 @@ inline void expected(const std::exception& e) {
   if (verbose) std::fprintf(stderr, "expected error: %s\n", e.what());
 }
 
-// For loaders that only take a path: one scratch file per fuzzing process.
+// For loaders that only take a path: one scratch file per fuzzing process,
+// in memory (/dev/shm) when there is one: opening a file on a busy disk took
+// seconds and showed up as false timeouts.
 inline std::filesystem::path scratch_file(std::string_view text, const std::string& suffix) {
-  static const std::filesystem::path path = std::filesystem::temp_directory_path() /
-      ("cullcast-fuzz-" + std::to_string(::getpid()) + suffix);
-  std::ofstream out(path, std::ios::binary | std::ios::trunc);
+  struct Scratch {
+    std::filesystem::path path;
+    ~Scratch() {  // at exit (libFuzzer ends with exit())
+      std::error_code ignored;
+      std::filesystem::remove(path, ignored);
+    }
+  };
+  static const Scratch scratch{[&] {
+    std::error_code error;
+    const std::filesystem::path shm("/dev/shm");
+    const auto dir = std::filesystem::is_directory(shm, error) && ::access(shm.c_str(), W_OK) == 0
+                         ? shm
+                         : std::filesystem::temp_directory_path();
+    return dir / ("cullcast-fuzz-" + std::to_string(::getpid()) + suffix);
+  }()};
+  std::ofstream out(scratch.path, std::ios::binary | std::ios::trunc);
   out.write(text.data(), static_cast<std::streamsize>(text.size()));
-  return path;
+  return scratch.path;
 }
 
 }  // namespace cullcast_fuzz
