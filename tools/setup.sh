@@ -2,13 +2,15 @@
 # One entry point for a fresh Debian 12 machine.
 #   bash tools/setup.sh demo   install what is missing, build, run the demo study
 #   bash tools/setup.sh test   install what is missing, build, run every test
-#                              (Release, then the fast tests under ASan+UBSan)
+#                              (Release, then the fast tests under ASan+UBSan,
+#                              then each libFuzzer target for a few seconds)
 #   bash tools/setup.sh deps   only install the Debian packages
 set -euo pipefail
 
 root="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
 build_dir="${CULLCAST_BUILD_DIR:-$root/build}"
 sanitize_dir="${CULLCAST_SANITIZE_DIR:-$root/build-sanitize}"
+fuzz_dir="${CULLCAST_FUZZ_DIR:-$root/build-fuzz}"
 jobs="$(nproc)"
 
 packages=(
@@ -19,6 +21,7 @@ packages=(
   libcli11-dev catch2 libtomlplusplus-dev libgeographiclib-dev
   python3 python3-numpy python3-scipy python3-netcdf4
   chromium
+  clang libclang-rt-14-dev libomp-dev
 )
 
 install_missing() {
@@ -66,6 +69,14 @@ case "${1:-}" in
       echo "setup: fast tests again under AddressSanitizer + UndefinedBehaviorSanitizer"
       configure_and_build "$sanitize_dir" -DCULLCAST_SANITIZE=ON -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_FLAGS=-g1
       (cd "$sanitize_dir" && ASAN_OPTIONS=detect_leaks=0 ctest --output-on-failure -j "$jobs" -L fast --timeout 900)
+    fi
+    if [[ "${CULLCAST_SKIP_FUZZ:-0}" != 1 ]]; then
+      echo "setup: libFuzzer targets (clang), ${CULLCAST_FUZZ_SECONDS:-12} s each"
+      # Only the fuzz targets and the libraries they link (base, study, reefs).
+      CC=clang CXX=clang++ cmake -S "$root" -B "$fuzz_dir" -G Ninja -DCULLCAST_FUZZ=ON -DCULLCAST_TESTS=OFF \
+        -DCMAKE_BUILD_TYPE=RelWithDebInfo -DCMAKE_CXX_FLAGS_RELWITHDEBINFO="-O1 -g1" >/dev/null
+      cmake --build "$fuzz_dir" -j "$jobs" --target fuzz_targets
+      bash "$root/tools/fuzz.sh" "$fuzz_dir" "${CULLCAST_FUZZ_SECONDS:-12}"
     fi
     ;;
   *)

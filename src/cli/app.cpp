@@ -5,6 +5,7 @@
 #include <iostream>
 
 #include "cli_context.hpp"
+#include "cullcast/base/byte_size.hpp"
 #include "cullcast/base/error.hpp"
 #include "cullcast/base/suggest.hpp"
 
@@ -16,13 +17,22 @@ study::Study CliContext::load(const std::string& scenario) const {
   return study::load_study(scenario, options);
 }
 
+study::Study CliContext::load_for_outputs(const std::string& scenario, const std::string& command) {
+  study::Study study = load(scenario);
+  if (!output_lock) {
+    output_lock.emplace(OutputLock::acquire(study.outputs.dir, command));
+    if (!output_lock->stale_note().empty()) err << "cullcast: warning: " << output_lock->stale_note() << "\n";
+  }
+  return study;
+}
+
 bool CliContext::show_progress() const { return !quiet && ::isatty(STDERR_FILENO) == 1; }
 
 namespace {
 
 constexpr const char* kExitCodes =
     "Exit codes: 0 success, 1 runtime failure, 2 usage error, 3 bad input,\n"
-    "            4 stage not built yet, 5 interrupted.\n"
+    "            4 stage not built yet, 5 interrupted, 6 output folder in use.\n"
     "Outputs are decision support with stated uncertainty; field work follows\n"
     "local dive-safety codes, permits and licensed practice.";
 
@@ -31,7 +41,7 @@ int code(ExitCode c) { return static_cast<int>(c); }
 }  // namespace
 
 int run(int argc, const char* const* argv, std::ostream& out, std::ostream& err) {
-  CliContext ctx{out, err, 0, false, {}, false, 5.0, {}};
+  CliContext ctx{out, err, 0, false, {}, false, 5.0, {}, {}, 0};
   CLI::App app{
       "cullcast: larval connectivity and cull prioritisation for coral-eating starfish "
       "outbreaks",
@@ -48,6 +58,22 @@ int run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
                  "spawning.N.key for one spawning block)")
       ->type_name("KEY=VALUE")
       ->allow_extra_args(false);
+
+  app.add_option_function<std::string>(
+         "--max-memory", [&ctx](const std::string& text) { ctx.max_memory_bytes = parse_byte_size(text); },
+         "Refuse a drift that would need more memory than this, e.g. 2GiB or 500MB "
+         "(default: the memory the machine has free)")
+      ->type_name("SIZE")
+      ->check(CLI::Validator(
+          [](std::string& text) -> std::string {
+            try {
+              if (parse_byte_size(text) == 0) return "--max-memory must be more than 0 bytes";
+              return {};
+            } catch (const std::invalid_argument& e) {
+              return e.what();
+            }
+          },
+          "SIZE"));
 
   add_run_command(app, ctx);
   add_disperse_command(app, ctx);
@@ -95,6 +121,12 @@ int run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
   } catch (const InputError& e) {
     err << "cullcast: error: " << e.what() << "\n";
     return code(ExitCode::bad_input);
+  } catch (const OutputBusyError& e) {
+    err << "cullcast: error: " << e.what() << "\n";
+    return code(ExitCode::busy);
+  } catch (const ResourceError& e) {
+    err << "cullcast: error: " << e.what() << "\n";
+    return code(ExitCode::runtime_failure);
   } catch (const NotBuiltError& e) {
     err << "cullcast: not built yet: " << e.what() << "\n";
     return code(ExitCode::not_built);

@@ -1,13 +1,16 @@
 #pragma once
 // What every subcommand shares: output streams, global options, and the one
 // action the parsed command line selected.
+#include <cstdint>
 #include <functional>
 #include <iosfwd>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include <CLI/CLI.hpp>
 
+#include "cullcast/base/output_lock.hpp"
 #include "cullcast/study/load_study.hpp"
 
 namespace cullcast::cli {
@@ -23,8 +26,13 @@ struct CliContext {
   bool resume = false;
   double checkpoint_minutes = 5.0;
   std::function<int()> action;         // set by the chosen subcommand
+  std::optional<OutputLock> output_lock;  // held until run() returns
+  std::uint64_t max_memory_bytes = 0;     // --max-memory; 0 = what the machine has free
 
   study::Study load(const std::string& scenario) const;
+  // For commands that write outputs: load, then lock [outputs] dir for this
+  // process (OutputBusyError when another live run holds it).
+  study::Study load_for_outputs(const std::string& scenario, const std::string& command);
   bool show_progress() const;  // a terminal on stderr and not --quiet
 };
 

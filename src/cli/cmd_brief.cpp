@@ -12,7 +12,7 @@ void add_brief_command(CLI::App& app, CliContext& ctx) {
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      const study::Study study = ctx.load(*scenario);
+      const study::Study study = ctx.load_for_outputs(*scenario, "brief");
       run_brief_stage(ctx, study);
       return 0;
     };

@@ -12,7 +12,7 @@ void add_disperse_command(CLI::App& app, CliContext& ctx) {
   add_checkpoint_options(*cmd, ctx);
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      const study::Study study = ctx.load(*scenario);
+      const study::Study study = ctx.load_for_outputs(*scenario, "disperse");
       run_disperse_stage(ctx, study);
       return 0;
     };

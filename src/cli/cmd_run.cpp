@@ -17,7 +17,7 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
   add_checkpoint_options(*cmd, ctx);
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
-      const study::Study study = ctx.load(*scenario);
+      const study::Study study = ctx.load_for_outputs(*scenario, "run");
       run_disperse_stage(ctx, study);
       run_connect_stage(ctx, study);
       if (study.cull.present) run_prioritise_stage(ctx, study);

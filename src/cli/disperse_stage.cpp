@@ -7,7 +7,9 @@
 #include <ostream>
 
 #include "cullcast/base/atomic_file.hpp"
+#include "cullcast/base/system_resources.hpp"
 #include "cullcast/currents/current_field.hpp"
+#include "cullcast/drift/resource_estimate.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
 #include "progress_display.hpp"
@@ -76,6 +78,9 @@ drift::DriftSummary run_disperse_stage(const CliContext& ctx, const study::Study
             << field.frame_count() << " frames; " << reef_set.size() << " reefs, "
             << sources.size() << " release sources\n";
   }
+  drift::check_resources(drift::estimate_resources(study, field, reef_set, sources),
+                         {available_memory_bytes(), ctx.max_memory_bytes,
+                          available_disk_bytes(study.outputs.dir), study.outputs.dir.string()});
   ProgressDisplay display(ctx.err, ctx.show_progress(), field.calendar());
   if (std::filesystem::is_directory(study.outputs.dir)) {
     const std::size_t stale = remove_stale_temporaries(study.outputs.dir);

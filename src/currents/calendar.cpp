@@ -124,6 +124,10 @@ std::string Calendar::name() const {
 }
 
 double Calendar::to_seconds(const CivilTime& t) const {
+  if (t.year < -kMaxCalendarYear || t.year > kMaxCalendarYear) {
+    throw std::invalid_argument("year " + std::to_string(t.year) + " is beyond the supported range (+-" +
+                                std::to_string(kMaxCalendarYear) + ")");
+  }
   if (t.month < 1 || t.month > 12) {
     throw std::invalid_argument("month " + std::to_string(t.month) + " is not 1..12");
   }
@@ -163,6 +167,12 @@ double Calendar::to_seconds(const CivilTime& t) const {
 }
 
 CivilTime Calendar::to_civil(double seconds) const {
+  // 366 days a year: a bound for every calendar, so the casts below cannot overflow.
+  constexpr double kMaxSeconds = (kMaxCalendarYear + 1970.0) * 366.0 * kSecondsPerDay;
+  if (!(std::abs(seconds) <= kMaxSeconds)) {
+    throw std::invalid_argument("time " + std::to_string(seconds) + " s from 1970 is not finite or beyond year +-" +
+                                std::to_string(kMaxCalendarYear));
+  }
   // Round to the microsecond so that e.g. 3599.9999999 does not print as 00:59:59.999.
   const double rounded = std::round(seconds * 1e6) / 1e6;
   long long days = static_cast<long long>(std::floor(rounded / kSecondsPerDay));

@@ -1,7 +1,10 @@
 // CF-1.13 §4.4 time coordinates: "<unit> since <date> [time] [zone]".
 #include "cullcast/currents/cf_time.hpp"
 
+#include <algorithm>
 #include <cctype>
+#include <cerrno>
+#include <cstdlib>
 #include <stdexcept>
 #include <string>
 #include <vector>
@@ -30,11 +33,16 @@ double unit_seconds(const std::string& unit, std::string_view whole) {
                               "'; expected seconds, minutes, hours or days since a date");
 }
 
-// Reads an unsigned integer of any number of digits; -1 when none.
+// Reads an unsigned integer of any number of digits; -1 when none. Values
+// saturate at kTooBig, so a long run of digits cannot overflow and is refused
+// by the range checks of the caller.
+constexpr long long kTooBig = 1'000'000'000'000LL;
 long long read_int(std::string_view s, size_t& pos) {
   size_t start = pos;
   long long v = 0;
-  while (pos < s.size() && std::isdigit(static_cast<unsigned char>(s[pos]))) v = v * 10 + (s[pos++] - '0');
+  while (pos < s.size() && std::isdigit(static_cast<unsigned char>(s[pos]))) {
+    v = std::min(kTooBig, v * 10 + (s[pos++] - '0'));
+  }
   return pos == start ? -1 : v;
 }
 
@@ -72,6 +80,9 @@ TimeUnits parse_time_units(std::string_view text, const Calendar& calendar) {
   ++p;
   long long dd = read_int(d, p);
   if (dd < 0) throw bad("cannot read the day");
+  // Fields are range-checked before they become ints; the calendar checks the rest.
+  if (y > kMaxCalendarYear) throw bad("year beyond " + std::to_string(kMaxCalendarYear));
+  if (mo > 99 || dd > 99) throw bad("month or day out of range");
   t.year = static_cast<int>(negative_year ? -y : y);
   t.month = static_cast<int>(mo);
   t.day = static_cast<int>(dd);
@@ -91,10 +102,14 @@ TimeUnits parse_time_units(std::string_view text, const Calendar& calendar) {
           ++p;
           size_t start = p;
           while (p < d.size() && (std::isdigit(static_cast<unsigned char>(d[p])) || d[p] == '.')) ++p;
-          if (p == start) throw bad("cannot read the seconds");
-          ss = std::stod(std::string(d.substr(start, p - start)));
+          const std::string digits(d.substr(start, p - start));
+          char* end = nullptr;
+          errno = 0;
+          ss = std::strtod(digits.c_str(), &end);
+          if (digits.empty() || *end != '\0' || errno == ERANGE) throw bad("cannot read the seconds");
         }
       }
+      if (hh > 99 || mm > 99) throw bad("time of day out of range");
       t.hour = static_cast<int>(hh);
       t.minute = static_cast<int>(mm);
       t.second = ss;

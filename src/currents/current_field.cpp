@@ -701,7 +701,15 @@ CurrentField CurrentField::open(const study::CurrentsSettings& settings) {
     } catch (const std::invalid_argument& e) {
       throw InputError(where + ", attribute units: " + e.what());
     }
-    for (double& t : d.info.times_s) t = tu.reference_s + t * tu.unit_s;
+    for (double& t : d.info.times_s) {
+      const double raw = t;
+      t = tu.reference_s + t * tu.unit_s;
+      try {
+        (void)m.calendar.to_civil(t);  // refuses times beyond the calendar's supported years
+      } catch (const std::invalid_argument& e) {
+        throw InputError(where + ": time value " + std::to_string(raw) + " " + d.time_units + ": " + e.what());
+      }
+    }
     bool descending = false;
     for (size_t i = 1; i < d.info.times_s.size(); ++i) {
       if (!(d.info.times_s[i] > d.info.times_s[i - 1])) {

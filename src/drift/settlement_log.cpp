@@ -15,6 +15,19 @@ namespace cullcast::drift {
 namespace fs = std::filesystem;
 namespace {
 
+// A CSV field (RFC 4180 §2): quoted when it holds a comma, quote or line
+// break, inner quotes doubled (event labels such as "2 Dec 2026, night").
+std::string csv_field(const std::string& text) {
+  if (text.find_first_of(",\"\r\n") == std::string::npos) return text;
+  std::string quoted = "\"";
+  for (char c : text) {
+    if (c == '"') quoted += '"';
+    quoted += c;
+  }
+  return quoted + "\"";
+}
+
+
 constexpr std::size_t kBufferRecords = 1 << 16;  // bounded memory: records are streamed
 constexpr const char* kTimeUnits = "seconds since 1970-01-01 00:00:00";
 const char* const kFateNames[] = {"released", "settled", "died", "stranded", "lost", "drifting"};
@@ -137,8 +150,8 @@ void SettlementLog::add(const SettlementRecord& r) {
   m.b_weight.push_back(r.weight);
   if (m.csv_target) {
     std::ostream& out = m.csv_target->stream();
-    out << m.tables.event_labels.at(r.event) << ',' << m.tables.source_ids.at(r.source) << ','
-        << m.tables.reef_ids.at(static_cast<std::size_t>(r.reef)) << ','
+    out << csv_field(m.tables.event_labels.at(r.event)) << ',' << csv_field(m.tables.source_ids.at(r.source)) << ','
+        << csv_field(m.tables.reef_ids.at(static_cast<std::size_t>(r.reef))) << ','
         << iso(m.tables.calendar, r.release_time_s) << ',' << iso(m.tables.calendar, r.settle_time_s)
         << ',' << std::setprecision(10) << r.age_s / 86400.0 << ',' << r.weight << '\n';
   }

@@ -29,13 +29,16 @@ std::string trim(const std::string& s) {
 }  // namespace
 
 Table read(const std::filesystem::path& path) {
-  Table table;
-  table.file = path.string();
   std::ifstream in(path, std::ios::binary);
-  if (!in) throw InputError("cannot open " + table.file + " for reading");
+  if (!in) throw InputError("cannot open " + path.string() + " for reading");
   std::ostringstream buffer;
   buffer << in.rdbuf();
-  std::string text = buffer.str();
+  return parse(buffer.str(), path.string());
+}
+
+Table parse(std::string text, const std::string& file) {
+  Table table;
+  table.file = file;
   if (text.rfind("\xEF\xBB\xBF", 0) == 0) text.erase(0, 3);  // UTF-8 byte-order mark
 
   std::vector<Row> records;

@@ -35,5 +35,7 @@ struct Table {
 // Reads the whole file; InputError when it cannot be read, has no header, a
 // quote is not closed, or a row has a different number of fields.
 Table read(const std::filesystem::path& path);
+// The same from text already in memory; `file` names it in messages.
+Table parse(std::string text, const std::string& file);
 
 }  // namespace cullcast::reefs::csv

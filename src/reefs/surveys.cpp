@@ -4,7 +4,6 @@
 #include <cctype>
 #include <cstdlib>
 #include <map>
-#include <regex>
 #include <stdexcept>
 
 #include "cullcast/base/error.hpp"
@@ -26,6 +25,43 @@ std::vector<std::string> all_ids(const ReefSet& reefs) {
   return ids;
 }
 
+// A size-class bound in a column name: digits with an optional fraction, at
+// most 9 characters so it stays a plain number (a diameter in cm). Returns the
+// value and moves `pos` past it, or -1 when there is none.
+double read_bound(const std::string& s, std::size_t& pos) {
+  const std::size_t start = pos;
+  while (pos < s.size() && std::isdigit(static_cast<unsigned char>(s[pos]))) ++pos;
+  if (pos == start) return -1;
+  if (pos + 1 < s.size() && s[pos] == '.' && std::isdigit(static_cast<unsigned char>(s[pos + 1]))) {
+    ++pos;
+    while (pos < s.size() && std::isdigit(static_cast<unsigned char>(s[pos]))) ++pos;
+  }
+  if (pos - start > 9) return -1;
+  return std::strtod(s.substr(start, pos - start).c_str(), nullptr);
+}
+
+// "count_<lo>_<hi>cm" or "count_<lo>cm_plus" (lower case). A hand-written
+// matcher: std::regex recurses once per character and overflowed the stack
+// on a very long column name (found by fuzzing).
+bool parse_size_class(const std::string& name, SizeClass& sc) {
+  const std::string prefix = "count_";
+  if (name.rfind(prefix, 0) != 0) return false;
+  std::size_t p = prefix.size();
+  const double lo = read_bound(name, p);
+  if (lo < 0) return false;
+  if (name.compare(p, std::string::npos, "cm_plus") == 0) {
+    sc.min_cm = lo;
+    return true;
+  }
+  if (p >= name.size() || name[p] != '_') return false;
+  ++p;
+  const double hi = read_bound(name, p);
+  if (hi < 0 || name.compare(p, std::string::npos, "cm") != 0) return false;
+  sc.min_cm = lo;
+  sc.max_cm = hi;
+  return true;
+}
+
 }  // namespace
 
 SurveyTable load_surveys(const std::filesystem::path& file, const ReefSet& reefs) {
@@ -37,12 +73,9 @@ SurveyTable load_surveys(const std::filesystem::path& file, const ReefSet& reefs
   const int date_col = t.column("surveyed_on");
 
   // Size classes and unknown columns.
-  static const std::regex band(R"(count_(\d+(?:\.\d+)?)_(\d+(?:\.\d+)?)cm)");
-  static const std::regex open_band(R"(count_(\d+(?:\.\d+)?)cm_plus)");
   std::vector<int> class_cols;
   for (std::size_t c = 0; c < t.header.size(); ++c) {
     const std::string name = lower(t.header[c]);
-    std::smatch m;
     if (name == "reef_id" || name == "density_per_ha" || name == "surveyed_on" || name == "notes") {
       if (t.column(name) != static_cast<int>(c)) {
         throw InputError(t.file + " line 1: column \"" + t.header[c] + "\" appears twice");
@@ -51,15 +84,11 @@ SurveyTable load_surveys(const std::filesystem::path& file, const ReefSet& reefs
     }
     SizeClass sc;
     sc.column = t.header[c];
-    if (std::regex_match(name, m, band)) {
-      sc.min_cm = std::stod(m[1]);
-      sc.max_cm = std::stod(m[2]);
+    if (parse_size_class(name, sc)) {
       if (!(sc.max_cm > sc.min_cm)) {
         throw InputError(t.file + " line 1: column \"" + t.header[c] +
                          "\": size class upper bound must exceed the lower bound (count_<lo>_<hi>cm)");
       }
-    } else if (std::regex_match(name, m, open_band)) {
-      sc.min_cm = std::stod(m[1]);
     } else {
       std::string message = t.file + " line 1: unknown column \"" + t.header[c] +
                             "\"; expected reef_id, density_per_ha, surveyed_on, notes, "

@@ -1,5 +1,6 @@
 #include "set_override.hpp"
 
+#include <stdexcept>
 #include <vector>
 
 #include "cullcast/base/error.hpp"
@@ -61,6 +62,8 @@ void apply_override(toml::table& root, const std::string& item) {
     if (parts.size() == 3) {
       std::size_t index = 0;
       try {
+        // Digits only: stoul alone would take "2x" as 2 and "-1" as a huge number.
+        if (parts[1].find_first_not_of("0123456789") != std::string::npos) throw std::invalid_argument("");
         index = std::stoul(parts[1]);
       } catch (const std::exception&) {
         throw InputError("--set \"" + item + "\": '" + parts[1] +

@@ -14,6 +14,7 @@ enum class ExitCode : int {
   bad_input = 3,        // a scenario, currents, reef or survey file is wrong
   not_built = 4,        // the stage exists in the interface but is not built yet
   interrupted = 5,      // stopped by a signal; outputs left untouched
+  busy = 6,             // the output folder is in use by another run
 };
 
 // A problem with something the user gave us: a file, a field, a value.
@@ -24,6 +25,19 @@ class InputError : public std::runtime_error {
 
 // A stage that the command line offers but this version does not implement.
 class NotBuiltError : public std::runtime_error {
+ public:
+  using std::runtime_error::runtime_error;
+};
+
+// The output folder is locked by another live run (base/output_lock.hpp).
+class OutputBusyError : public std::runtime_error {
+ public:
+  using std::runtime_error::runtime_error;
+};
+
+// The study needs more memory or disk than there is (or than --max-memory
+// allows); refused before the work starts. Exit code 1 (runtime failure).
+class ResourceError : public std::runtime_error {
  public:
   using std::runtime_error::runtime_error;
 };

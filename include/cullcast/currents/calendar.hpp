@@ -9,6 +9,10 @@
 
 namespace cullcast::currents {
 
+// Years this far from year 0 (either way) are refused: far beyond any ocean
+// model, and it keeps every day count exact and free of integer overflow.
+constexpr int kMaxCalendarYear = 1'000'000;
+
 enum class CalendarKind { standard, proleptic_gregorian, julian, noleap, all_leap, day360 };
 
 class Calendar {
@@ -22,8 +26,11 @@ class Calendar {
   std::string name() const;  // canonical CF name
 
   // Throws std::invalid_argument for a date that does not exist in this
-  // calendar (e.g. 2025-02-29 in noleap, 2025-01-31 in 360_day).
+  // calendar (e.g. 2025-02-29 in noleap, 2025-01-31 in 360_day) or a year
+  // beyond kMaxCalendarYear.
   double to_seconds(const CivilTime& time) const;
+  // Throws std::invalid_argument for seconds that are not finite or lie
+  // beyond kMaxCalendarYear.
   CivilTime to_civil(double seconds) const;
 
  private:
