@@ -103,7 +103,7 @@ def main():
     os.makedirs(a.work, exist_ok=True)
     cur_dir = os.path.join(a.work, "currents")
     if not os.path.isdir(cur_dir) or not os.listdir(cur_dir):
-        run([os.path.join(a.build, "cullcast"), "--quiet", "demo-data", "--kind", "demo", "--days", "3", cur_dir])
+        run([os.path.join(a.build, "cullcast"), "--quiet", "demo-data", "--kind", "demo", "--days", "3", "--seasons", "1", cur_dir])
     files = sorted(os.path.join(cur_dir, f) for f in os.listdir(cur_dir) if f.endswith(".nc"))
     currents = ",".join(files)
     reefs = os.path.join(ROOT, "scenarios", "lantern-reach", "reefs.geojson")

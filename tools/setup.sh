@@ -55,7 +55,8 @@ case "${1:-}" in
   demo)
     install_missing
     configure_and_build "$build_dir"
-    if ! ls "$root"/scenarios/lantern-reach/currents/*.nc >/dev/null 2>&1; then
+    # Both seasons' records (an older checkout may hold only the first).
+    if [[ ! -e "$root/scenarios/lantern-reach/currents/lantern_reach_20280110.nc" ]]; then
       echo "setup: generating the demo currents (synthetic, deterministic)"
       "$build_dir/cullcast" demo-data "$root/scenarios/lantern-reach/currents"
     fi

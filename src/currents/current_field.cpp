@@ -879,6 +879,21 @@ double CurrentField::frame_step_s() const { return impl_->step_s; }
 std::size_t CurrentField::frame_count() const { return impl_->times.size(); }
 const std::vector<TimeGap>& CurrentField::gaps() const { return impl_->gaps; }
 const std::vector<double>& CurrentField::frame_times_s() const { return impl_->times; }
+
+const TimeGap* CurrentField::gap_within(double t0_s, double t1_s) const {
+  if (t1_s < t0_s) std::swap(t0_s, t1_s);
+  for (const TimeGap& g : impl_->gaps) {
+    if (g.from_s < t1_s && g.to_s > t0_s) return &g;  // gaps are few and sorted
+  }
+  return nullptr;
+}
+
+double CurrentField::stretch_end_s(double t_s) const {
+  for (const TimeGap& g : impl_->gaps) {
+    if (g.to_s > t_s) return std::max(g.from_s, std::min(t_s, g.to_s));  // inside a gap: no room
+  }
+  return impl_->times.back();
+}
 const std::vector<std::string>& CurrentField::files() const { return impl_->file_paths; }
 const VariableNames& CurrentField::variables() const { return impl_->names; }
 std::string CurrentField::format_time(double t_s) const { return impl_->format(t_s); }

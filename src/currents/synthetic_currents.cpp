@@ -59,8 +59,27 @@ void add_eddy(double x, double y, double cx, double cy, double radius_m, double 
   p.v += s * dx;
 }
 
+// The weather of one demo season. Season 0 is the first (December 2026)
+// record; odd seasons have a south-westward drift, a counter-clockwise lagoon
+// cell and eddies elsewhere, so the connectivity differs between years; every
+// season draws its own day-to-day variation.
+struct SeasonShape {
+  double mean_m_s, swing_m_s, swing_period_d;  // shelf current: mean, wind-driven swing, its period
+  double heading_deg;                          // shelf current heading, clockwise from north
+  double gyre_m_s;                             // lagoon cell speed at 25 km; > 0 clockwise
+  double e1x, e1y, e1_drift_m_d, e1_sign;      // eddy 1: start (box fractions), westward drift, sense
+  double e2x, e2y, e2_drift_m_d, e2_sign;      // eddy 2
+};
+
+SeasonShape season_shape(int season) {
+  if (season % 2 == 0) return {0.025, 0.12, 6.1, 315.0, 0.07, 0.25, 0.3, 2000.0, 1.0, 0.75, 0.75, 1500.0, -1.0};
+  return {0.035, 0.09, 4.3, 245.0, -0.05, 0.65, 0.55, -1800.0, -1.0, 0.2, 0.2, 1200.0, 1.0};
+}
+
 Point demo_point(double t_h, double lon, double lat, double depth_m, const SyntheticOptions& o) {
   Point p;
+  const SeasonShape sh = season_shape(o.season);
+  const std::uint64_t st = 100u * static_cast<std::uint64_t>(o.season);  // hash streams of this season
   const Box box{o.lon_min, o.lat_min, 0.5 * (o.lat_min + o.lat_max)};
   const double x = box.x_m(lon), y = box.y_m(lat);
   const double width = box.x_m(o.lon_max), height = box.y_m(o.lat_max);
@@ -79,20 +98,20 @@ Point demo_point(double t_h, double lon, double lat, double depth_m, const Synth
   // Shelf current toward the north-west that slackens and reverses with the
   // weather (period ~6 days, varying by day), so larvae meander over the
   // weeks they drift instead of all leaving the region.
-  const double mean = 0.025 * (1.0 + 0.5 * daily(t_d, 1));
-  const double swing = 0.12 * std::sin(2 * pi * t_d / 6.1 + 1.5 * daily(t_d, 6));
+  const double mean = sh.mean_m_s * (1.0 + 0.5 * daily(t_d, st + 1));
+  const double swing = sh.swing_m_s * std::sin(2 * pi * t_d / sh.swing_period_d + 1.5 * daily(t_d, st + 6));
   const double speed = mean + swing;
-  const double heading = (315.0 + 25.0 * daily(t_d, 2)) * kDeg;  // clockwise from north
+  const double heading = (sh.heading_deg + 25.0 * daily(t_d, st + 2)) * kDeg;  // clockwise from north
   // Weaker inshore (south) and stronger offshore (north).
   const double cross = 0.7 + 0.6 * (y / height);
   p.u += speed * cross * std::sin(heading) * decay;
   p.v += speed * cross * std::cos(heading) * decay;
-  // A broad clockwise recirculation over the archipelago (southern-hemisphere
-  // anticyclonic sense is counter-clockwise; this lagoon cell is wind-driven):
-  // 0.07 m/s at 25 km from its centre, closed streamlines that hold larvae.
+  // A broad recirculation over the archipelago (wind-driven lagoon cell;
+  // clockwise at 0.07 m/s at 25 km from its centre in even seasons,
+  // counter-clockwise and weaker in odd ones): closed streamlines that hold larvae.
   {
     const double cx = 0.5 * width, cy = 0.5 * height;
-    const double omega = 0.07 / 25000.0;  // 1/s
+    const double omega = sh.gyre_m_s / 25000.0;  // 1/s
     const double fade = std::exp(-((x - cx) * (x - cx) + (y - cy) * (y - cy)) / (2 * 30000.0 * 30000.0));
     p.u += omega * (y - cy) * fade * decay;
     p.v += -omega * (x - cx) * fade * decay;
@@ -107,15 +126,17 @@ Point demo_point(double t_h, double lon, double lat, double depth_m, const Synth
   p.v += (major * std::cos(axis) - minor * std::sin(axis)) * (0.85 + 0.15 * decay);
   // Two eddies drifting across the box (wrapping around).
   auto wrap = [](double v, double span) { return v - span * std::floor(v / span); };
-  const double e1x = wrap(0.25 * width - 2000.0 * t_d, width), e1y = 0.3 * height + 3000.0 * std::sin(2 * pi * t_d / 20.0);
-  const double e2x = wrap(0.75 * width - 1500.0 * t_d, width), e2y = wrap(0.75 * height - 800.0 * t_d, height);
-  add_eddy(x, y, e1x, e1y, 5000.0, 0.25 * (1 + 0.2 * daily(t_d, 3)), 1.0, p);
-  add_eddy(x, y, e2x, e2y, 4000.0, 0.20, -1.0, p);
+  const double e1x = wrap(sh.e1x * width - sh.e1_drift_m_d * t_d, width),
+               e1y = sh.e1y * height + 3000.0 * std::sin(2 * pi * t_d / 20.0);
+  const double e2x = wrap(sh.e2x * width - sh.e2_drift_m_d * t_d, width),
+               e2y = wrap(sh.e2y * height - 800.0 * t_d, height);
+  add_eddy(x, y, e1x, e1y, 5000.0, 0.25 * (1 + 0.2 * daily(t_d, st + 3)), sh.e1_sign, p);
+  add_eddy(x, y, e2x, e2y, 4000.0, 0.20, sh.e2_sign, p);
   p.u *= shelter;
   p.v *= shelter;
   // Scalars: warm surface with a daily cycle; chlorophyll higher near islands and inshore.
-  p.temp_c = 27.8 + 0.4 * std::sin(2 * pi * (t_h - 9.0) / 24.0) * decay - 0.04 * depth_m + 0.3 * daily(t_d, 4);
-  p.chl_mg_m3 = std::max(0.05, 0.35 + 0.3 * (1.0 - shelter) + 0.25 * (1.0 - y / height) + 0.1 * daily(t_d, 5));
+  p.temp_c = 27.8 + 0.4 * std::sin(2 * pi * (t_h - 9.0) / 24.0) * decay - 0.04 * depth_m + 0.3 * daily(t_d, st + 4);
+  p.chl_mg_m3 = std::max(0.05, 0.35 + 0.3 * (1.0 - shelter) + 0.25 * (1.0 - y / height) + 0.1 * daily(t_d, st + 5));
   return p;
 }
 
@@ -171,13 +192,11 @@ std::string synthetic_kind_name(SyntheticKind kind) {
   return "demo";
 }
 
-std::vector<std::filesystem::path> write_synthetic_currents(const std::filesystem::path& dir,
-                                                            const SyntheticOptions& in) {
+namespace {
+
+// One continuous record of o.days from o.start, in o.season's weather.
+void write_window(const std::filesystem::path& dir, SyntheticOptions o, std::vector<std::filesystem::path>& written) {
   using namespace netCDF;
-  SyntheticOptions o = in;
-  if (!(o.days > 0) || !(o.step_hours > 0) || !(o.days_per_file > 0) || !(o.spacing_deg > 0)) {
-    throw std::invalid_argument("days, days_per_file, step_hours and spacing must be positive");
-  }
   if (o.kind == SyntheticKind::double_gyre) {
     // 2:1 box in metres (Shadden et al. 2005 domain [0,2]x[0,1]).
     const double mid = 0.5 * (o.lat_min + o.lat_max);
@@ -202,7 +221,6 @@ std::vector<std::filesystem::path> write_synthetic_currents(const std::filesyste
   const std::string prefix = o.file_prefix.empty() ? (demo ? std::string("lantern_reach") : synthetic_kind_name(o.kind))
                                                    : o.file_prefix;
   std::filesystem::create_directories(dir);
-  std::vector<std::filesystem::path> written;
   std::vector<std::int16_t> ubuf(nz * ny * nx), vbuf(ubuf.size()), tbuf, cbuf;
   if (demo) { tbuf.resize(ubuf.size()); cbuf.resize(ubuf.size()); }
 
@@ -314,6 +332,24 @@ std::vector<std::filesystem::path> write_synthetic_currents(const std::filesyste
     out.commit();
     written.push_back(out.target());
     if (first + count >= total) break;
+  }
+}
+
+}  // namespace
+
+std::vector<std::filesystem::path> write_synthetic_currents(const std::filesystem::path& dir,
+                                                            const SyntheticOptions& in) {
+  if (!(in.days > 0) || !(in.step_hours > 0) || !(in.days_per_file > 0) || !(in.spacing_deg > 0)) {
+    throw std::invalid_argument("days, days_per_file, step_hours and spacing must be positive");
+  }
+  if (in.seasons < 1 || in.season < 0) throw std::invalid_argument("seasons must be >= 1 and season >= 0");
+  std::vector<std::filesystem::path> written;
+  for (int k = 0; k < in.seasons; ++k) {
+    // Season k: the same calendar window k years later, in its own weather.
+    SyntheticOptions o = in;
+    o.season = in.season + k;
+    o.start.year = in.start.year + k;
+    write_window(dir, o, written);
   }
   return written;
 }

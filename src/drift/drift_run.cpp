@@ -169,6 +169,17 @@ void check_time_coverage(const study::Study& study, const currents::CurrentField
           " days), but the currents files cover " + describe_time(calendar, field.time_begin_s()) +
           " to " + describe_time(calendar, field.time_end_s()));
     }
+    // Larvae never drift through a hole in the record (e.g. between two
+    // seasons' files): interpolating across it would invent the currents.
+    if (const currents::TimeGap* gap = field.gap_within(start, end)) {
+      throw InputError(
+          study.scenario_file.string() + ": [[spawning]] " + std::to_string(e + 1) + " (" +
+          event.label + ") needs currents from " + describe_time(calendar, start) + " to " +
+          describe_time(calendar, end) + ", but the currents have a gap from " +
+          describe_time(calendar, gap->from_s) + " to " + describe_time(calendar, gap->to_s) +
+          " (no frames between; cullcast does not interpolate across a gap): move the spawning night, "
+          "shorten the larval lifetime, or add the missing currents files");
+    }
   }
 }
 
@@ -306,7 +317,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     // every particle has its fate or the currents end.
     auto steps = static_cast<std::uint32_t>(std::ceil(event_length_s(event, study.larvae) / step.dt_s - 1e-9));
     if (extras.environment.any()) {
-      const double room = field.time_end_s() - step.event_start_s;
+      const double room = field.stretch_end_s(step.event_start_s) - step.event_start_s;  // up to a gap
       steps = std::max(steps, static_cast<std::uint32_t>(std::floor(room / step.dt_s + 1e-9)));
     }
     // The core path on a uniform regular grid has a faster stepper (grid_stepper.hpp).
@@ -404,7 +415,9 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       std::ostringstream w;
       w << event.label << ": " << done.fates.drifting
         << " larvae were still drifting when the stepping ended (currents end at "
-        << describe_time(calendar, field.time_end_s()) << "); their fate is unknown";
+        << describe_time(calendar, field.stretch_end_s(step.event_start_s))
+        << (field.stretch_end_s(step.event_start_s) < field.time_end_s() ? ", before a gap" : "")
+        << "); their fate is unknown";
       summary.warnings.push_back(w.str());
     }
   }
@@ -446,11 +459,15 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
   const auto& calendar = field.calendar();
   const double arrival = calendar.to_seconds(b.arrival) + b.hours * 3600.0;  // last arrival
   const double span = b.hours * 3600.0 + (study.larvae.precompetent_days + study.larvae.competent_days) * 86400.0;
-  if (arrival > field.time_end_s() || arrival - span < field.time_begin_s()) {
+  if (arrival > field.time_end_s() || arrival - span < field.time_begin_s() ||
+      field.gap_within(arrival - span, arrival) != nullptr) {
     throw InputError(study.scenario_file.string() + ": [backward] needs currents from " +
                      describe_time(calendar, arrival - span) + " to " + describe_time(calendar, arrival) +
-                     ", but the currents files cover " + describe_time(calendar, field.time_begin_s()) +
-                     " to " + describe_time(calendar, field.time_end_s()));
+                     " without a gap, but the currents files cover " + describe_time(calendar, field.time_begin_s()) +
+                     " to " + describe_time(calendar, field.time_end_s()) +
+                     (field.gaps().empty() ? std::string()
+                                           : " with " + std::to_string(field.gaps().size()) +
+                                                 " gap(s); cullcast hydro-check lists them"));
   }
   // Release on the sink: the reef's own release plan, one source.
   std::vector<reefs::ReleaseSource> sources;

@@ -216,6 +216,16 @@ TEST_CASE("multi-file sets: concatenation, identical duplicates, conflicts, gaps
   REQUIRE(f.gaps().size() == 1);
   CHECK(f.format_time(f.gaps()[0].from_s) == "2026-12-01T04:00:00Z");
   CHECK(f.format_time(f.gaps()[0].to_s) == "2026-12-01T06:00:00Z");
+  // Spans that touch a gap only at its end frames do not cross it.
+  const double h0 = f.time_begin_s();
+  CHECK(f.gap_within(h0, h0 + 4 * 3600.0) == nullptr);
+  CHECK(f.gap_within(h0 + 6 * 3600.0, h0 + 9 * 3600.0) == nullptr);
+  CHECK(f.gap_within(h0 + 3 * 3600.0, h0 + 4.5 * 3600.0) == &f.gaps()[0]);
+  CHECK(f.gap_within(h0 + 7 * 3600.0, h0 + 2 * 3600.0) == &f.gaps()[0]);  // either order
+  CHECK(f.stretch_end_s(h0 + 1 * 3600.0) == h0 + 4 * 3600.0);
+  CHECK(f.stretch_end_s(h0 + 4 * 3600.0) == h0 + 4 * 3600.0);
+  CHECK(f.stretch_end_s(h0 + 5 * 3600.0) == h0 + 5 * 3600.0);  // inside the gap: no room
+  CHECK(f.stretch_end_s(h0 + 6 * 3600.0) == f.time_end_s());
   REQUIRE(f.files().size() == 3);
   CHECK(f.files()[0] == early);
   // Across the file boundary and the gap, linear in time.

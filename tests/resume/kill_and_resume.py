@@ -39,7 +39,7 @@ def run(args, **kw):
 def main():
     with tempfile.TemporaryDirectory(prefix="cullcast-resume-") as work:
         cur = os.path.join(work, "currents")
-        r = run(["demo-data", "--kind", "demo", "--days", "4", "--days-per-file", "2", cur])
+        r = run(["demo-data", "--kind", "demo", "--seasons", "1", "--days", "4", "--days-per-file", "2", cur])
         if r.returncode != 0:
             fail("demo-data: " + r.stderr)
         scenario = os.path.join(work, "s.toml")

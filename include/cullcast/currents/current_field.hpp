@@ -104,6 +104,13 @@ class CurrentField {
 
   // --- additions beyond the first contract -------------------------------
   const std::vector<TimeGap>& gaps() const;                 // holes in the time axis
+  // The first gap whose open interval (from_s, to_s) overlaps [t0_s, t1_s], or
+  // nullptr. Stages that must not interpolate across a gap check their span
+  // with this before they step (prepare() itself interpolates across gaps).
+  const TimeGap* gap_within(double t0_s, double t1_s) const;
+  // The last frame time reachable from t_s without crossing a gap
+  // (time_end_s() when no gap follows t_s).
+  double stretch_end_s(double t_s) const;
   const std::vector<double>& frame_times_s() const;         // every frame, sorted, unique
   const std::vector<std::string>& files() const;            // files in use, in time order
   const VariableNames& variables() const;

@@ -13,7 +13,11 @@
 //  - demo:        the invented "Lantern Reach" archipelago: north-westward shelf
 //                 current (~0.2 m/s) varying from day to day, M2 + S2 tidal
 //                 ellipses, two drifting eddies, islands as land (_FillValue),
-//                 3 depth levels, temperature and chlorophyll.
+//                 3 depth levels, temperature and chlorophyll. Seasons differ:
+//                 even ones have a north-westward drift and a clockwise lagoon
+//                 cell, odd ones a south-westward drift, a weaker
+//                 counter-clockwise cell and other eddies; each season has its
+//                 own day-to-day weather.
 // Velocities are packed as int16 (scale_factor/add_offset, CF-1.13 §8.1) with a
 // _FillValue on land; time is "hours since <start>", standard calendar.
 #include <filesystem>
@@ -41,6 +45,9 @@ struct SyntheticOptions {
   double spacing_deg = 0.01;    // node spacing (~1 km), degrees
   bool compress = true;         // NetCDF-4 classic model + deflate; false: 64-bit-offset classic
   std::string file_prefix;      // default: the kind's name
+  int season = 0;               // demo weather of the first window (0 = the 2026 season's)
+  int seasons = 1;              // windows of `days` each, starting 0, 1, ... calendar years after
+                                // `start` (season, season + 1, ...): a record with gaps between seasons
 };
 
 // Writes the files into `dir` (created if needed), each atomically; returns their paths.
