@@ -129,6 +129,9 @@ Table read(const std::filesystem::path& path) {
   if (records.empty()) throw InputError(t.file + ": empty file, expected a header line");
   t.header = records.front();
   for (std::size_t r = 1; r < records.size(); ++r) {
+    // Tolerate trailing empty fields: connectivity.csv's per-event rows carry
+    // one empty field more than its header (cullcast 0.1.0).
+    while (records[r].size() > t.header.size() && records[r].back().empty()) records[r].pop_back();
     if (records[r].size() != t.header.size()) {
       throw InputError(t.file + " line " + std::to_string(lines[r]) + ": expected " +
                        std::to_string(t.header.size()) + " fields, found " +

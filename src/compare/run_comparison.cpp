@@ -21,7 +21,7 @@ std::string num(double v) {
   return std::string(buffer, r.ptr);
 }
 
-std::string quoted(const std::string& s) {
+std::string csv_field(const std::string& s) {
   if (s.find_first_of(",\"\n\r") == std::string::npos) return s;
   std::string q = "\"";
   for (char c : s) q += c == '"' ? std::string("\"\"") : std::string(1, c);
@@ -181,7 +181,7 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
     out << "source_id,sink_id,released_a,settlers_a,probability_a,released_b,settlers_b,"
            "probability_b,difference,z,p_value,q_value,min_expected,significant,significant_fdr\n";
     for (const auto& l : c.links) {
-      out << quoted(l.source_id) << ',' << quoted(l.sink_id) << ','
+      out << csv_field(l.source_id) << ',' << csv_field(l.sink_id) << ','
           << (l.released_a >= 0 ? std::to_string(l.released_a) : "") << ',' << l.settlers_a << ','
           << num(l.probability_a) << ',' << (l.released_b >= 0 ? std::to_string(l.released_b) : "")
           << ',' << l.settlers_b << ',' << num(l.probability_b) << ',' << num(l.difference()) << ','
@@ -202,7 +202,7 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
     for (const auto& r : c.reefs) {
       const char* plan = r.rank_a == 0 ? (r.rank_b == 0 ? "" : "entered")
                                        : (r.rank_b == 0 ? "left" : "kept");
-      out << quoted(r.reef_id) << ',' << r.role_a << ',' << r.role_b << ','
+      out << csv_field(r.reef_id) << ',' << r.role_a << ',' << r.role_b << ','
           << (r.role_changed() ? "true" : "false") << ',' << num(r.export_a) << ','
           << num(r.export_b) << ',' << num(r.import_a) << ',' << num(r.import_b) << ','
           << (r.rank_a ? std::to_string(r.rank_a) : "") << ','
@@ -217,8 +217,8 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
     AtomicFile file(dir / (prefix + "_summary.csv"));
     std::ostream& out = file.stream();
     out << "quantity,value\n"
-        << "run_a," << quoted(c.dir_a.string()) << "\n"
-        << "run_b," << quoted(c.dir_b.string()) << "\n"
+        << "run_a," << csv_field(c.dir_a.string()) << "\n"
+        << "run_b," << csv_field(c.dir_b.string()) << "\n"
         << "alpha," << num(c.alpha) << "\n"
         << "links," << c.links.size() << "\n"
         << "links_tested," << c.links_tested << "\n"
@@ -232,8 +232,8 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
       for (const auto& e : c.left) left += (left.empty() ? "" : " ") + e;
       out << "kendall_tau_b," << num(c.tau.tau) << "\n"
           << "tau_reefs," << c.tau_reefs << "\n"
-          << "entered_plan," << quoted(entered) << "\n"
-          << "left_plan," << quoted(left) << "\n"
+          << "entered_plan," << csv_field(entered) << "\n"
+          << "left_plan," << csv_field(left) << "\n"
           << "averted_pct_a," << num(c.averted_pct_a) << "\n"
           << "averted_pct_b," << num(c.averted_pct_b) << "\n"
           << "averted_a," << num(c.averted_a) << "\n"

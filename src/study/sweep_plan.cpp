@@ -111,7 +111,8 @@ Study load_variant(const fs::path& scenario, const std::vector<std::string>& cli
       try {
         attempt(k + 1);
       } catch (const InputError& e) {
-        throw InputError(variant.where + ": variant \"" + variant.name + "\", override \"" +
+        const std::string& where = k < variant.locations.size() ? variant.locations[k] : variant.where;
+        throw InputError(where + ": variant \"" + variant.name + "\", override \"" +
                          variant.overrides[k] + "\": " + strip_set_prefix(e.what(), file));
       }
     }
@@ -146,9 +147,9 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
   const toml::table* sweep = sweep_node ? sweep_node->as_table() : nullptr;
   SectionReader r(sweep, "sweep", file, root.source());
   baseline = r.boolean("baseline", true);
+  r.mark_known("vary");
   if (r.has("vary")) {
     const toml::node* v = sweep->get("vary");
-    r.mark_known("vary");
     if (!v->is_table()) r.fail("vary", "expected a table of \"section.key\" = [values], found " + describe_node(*v));
     for (auto&& [key, values] : *v->as_table()) {
       Axis axis;
@@ -183,7 +184,7 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
                      std::to_string(axes.size()) + "); list other combinations as [[variant]] blocks");
   }
 
-  if (baseline) plan.variants.push_back({"baseline", {}, file});
+  if (baseline) plan.variants.push_back({"baseline", {}, file, {}});
   if (const toml::node* blocks = root.get("variant")) {
     if (!blocks->is_array_of_tables()) {
       throw InputError(location_text(file, blocks->source()) +
@@ -199,6 +200,9 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
         v.fail("name", "\"" + variant.name + "\" cannot be a folder name; use letters, digits, '.', '_' and '-'");
       }
       for (const auto& item : v.text_list("set", true)) variant.overrides.push_back(normalise_override(item));
+      for (const auto& item : *t.get("set")->as_array()) {
+        variant.locations.push_back(location_text(file, item.source()));
+      }
       v.finish();
       plan.variants.push_back(variant);
     }
