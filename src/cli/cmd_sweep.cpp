@@ -1,3 +1,4 @@
+#include <algorithm>
 #include <chrono>
 #include <cmath>
 #include <cstdio>
@@ -7,6 +8,9 @@
 
 #include "cli_context.hpp"
 #include "cullcast/base/atomic_file.hpp"
+#include "cullcast/base/error.hpp"
+#include "cullcast/currents/current_field.hpp"
+#include "cullcast/drift/drift_run.hpp"
 #include "cullcast/compare/run_comparison.hpp"
 #include "cullcast/study/sweep_plan.hpp"
 #include "pipeline.hpp"
@@ -93,6 +97,28 @@ void add_sweep_command(CLI::App& app, CliContext& ctx) {
     ctx.action = [&ctx, o]() -> int {
       const study::SweepPlan plan = study::read_sweep_plan(o->scenario, ctx.overrides, o->vary);
       const bool baseline = !plan.variants.empty() && plan.variants.front().name == "baseline";
+      // Pre-flight: every variant's spawning and larval settings fit the currents
+      // (opened once while the variants leave [currents] alone), before anything runs.
+      {
+        const study::Study first = ctx.load(o->scenario);
+        currents::CurrentField field = currents::CurrentField::open(first.currents);
+        for (const auto& v : plan.variants) {
+          const study::Study s = study::load_variant(o->scenario, ctx.overrides, plan, v);
+          const bool own_currents = std::any_of(v.overrides.begin(), v.overrides.end(), [](const std::string& x) {
+            return x.rfind("currents.", 0) == 0;
+          });
+          try {
+            if (own_currents) {
+              currents::CurrentField f = currents::CurrentField::open(s.currents);
+              drift::check_time_coverage(s, f);
+            } else {
+              drift::check_time_coverage(s, field);
+            }
+          } catch (const InputError& e) {
+            throw InputError("variant \"" + v.name + "\" (" + v.where + "): " + e.what());
+          }
+        }
+      }
       std::ostream null_out(nullptr);
       CliContext stage{o->verbose ? ctx.out : null_out, ctx.err, ctx.threads, ctx.quiet, ctx.overrides, {}};
       if (!ctx.quiet) {
