@@ -88,15 +88,15 @@ void add_converge_command(CLI::App& app, CliContext& ctx) {
         const auto& m = r.moving[i];
         std::snprintf(line, sizeof line, "    %s -> %s: %.3g -> %.3g (%.0f %%)%s", m.source_id.c_str(),
                       m.sink_id.c_str(), m.fraction_a, m.fraction_b, 100 * m.relative_change,
-                      m.significant ? ", beyond sampling noise" : "");
+                      m.significant ? ", beyond sampling noise (after the FDR adjustment)" : "");
         ctx.out << line << "\n";
       }
-      ctx.out << "  " << compare::comparison_summary(c);
+      ctx.out << compare::comparison_summary(c);
       if (!r.rank_shifts.empty()) {
         ctx.out << "  cull ranks that moved:";
         for (const auto& s : r.rank_shifts) {
-          ctx.out << " " << s.reef_id << " " << (s.rank_a ? std::to_string(s.rank_a) : "-") << "->"
-                  << (s.rank_b ? std::to_string(s.rank_b) : "-");
+          ctx.out << " " << s.reef_id << " " << (s.rank_a ? std::to_string(s.rank_a) : "out") << "->"
+                  << (s.rank_b ? std::to_string(s.rank_b) : "out");
         }
         ctx.out << "\n";
       } else if (c.plans) {

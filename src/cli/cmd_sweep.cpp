@@ -39,6 +39,13 @@ std::string fixed(double v, int digits) {
   return b;
 }
 
+std::string sig3(double v) {
+  if (std::isnan(v)) return "-";
+  char b[32];
+  std::snprintf(b, sizeof b, "%.3g", v);
+  return b;
+}
+
 std::string csv_quoted(const std::string& s) {
   std::string q = "\"";
   for (char c : s) q += c == '"' ? std::string("\"\"") : std::string(1, c);
@@ -49,7 +56,7 @@ void print_table(std::ostream& out, const std::vector<VariantResult>& rows, bool
   std::size_t w = 7;
   for (const auto& r : rows) w = std::max(w, r.name.size());
   char line[512];
-  std::snprintf(line, sizeof line, "  %-*s %9s %7s %6s %9s %s%s\n", static_cast<int>(w), "variant",
+  std::snprintf(line, sizeof line, "  %-*s %9s %9s %6s %9s %s%s\n", static_cast<int>(w), "variant",
                 "settled%", "lambda", "links", "averted%", baseline ? "sig.links  tau   " : "", "plan (top 3)");
   out << line;
   for (const auto& r : rows) {
@@ -63,8 +70,8 @@ void print_table(std::ostream& out, const std::vector<VariantResult>& rows, bool
       }
       versus = b;
     }
-    std::snprintf(line, sizeof line, "  %-*s %9s %7s %6zu %9s %s%s\n", static_cast<int>(w), r.name.c_str(),
-                  fixed(r.settled_pct, 2).c_str(), fixed(r.lambda, 3).c_str(), r.links,
+    std::snprintf(line, sizeof line, "  %-*s %9s %9s %6zu %9s %s%s\n", static_cast<int>(w), r.name.c_str(),
+                  fixed(r.settled_pct, 2).c_str(), sig3(r.lambda).c_str(), r.links,
                   fixed(r.averted_pct, 1).c_str(), versus.c_str(), r.plan.c_str());
     out << line;
   }

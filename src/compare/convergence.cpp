@@ -49,7 +49,7 @@ ConvergenceReport assess_convergence(const RunComparison& c, const ConvergenceOp
     if (std::max(m.fraction_a, m.fraction_b) < o.probability) continue;
     ++r.links_considered;
     m.relative_change = std::fabs(m.fraction_b - m.fraction_a) / std::max(m.fraction_a, m.fraction_b);
-    m.significant = l.significant;
+    m.significant = l.significant_fdr;
     if (m.relative_change > o.relative_precision) r.moving.push_back(m);
   }
   std::stable_sort(r.moving.begin(), r.moving.end(), [](const MovingLink& x, const MovingLink& y) {

@@ -247,19 +247,19 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
 
 std::string comparison_summary(const RunComparison& c) {
   std::ostringstream s;
-  s << "Links: " << c.links.size() << " in either run, " << c.links_tested << " testable; "
+  s << "  Links: " << c.links.size() << " in either run, " << c.links_tested << " testable; "
     << c.links_significant << " differ at the " << fmt("%g", 100 * c.alpha)
     << " % level (about " << fmt("%.1f", c.expected_false_positives)
     << " expected by chance alone if nothing changed), " << c.links_significant_fdr
     << " after the Benjamini-Hochberg false discovery rate adjustment\n";
-  s << "Reef roles: " << c.roles_changed << " of " << c.reefs.size() << " changed\n";
+  s << "  Reef roles: " << c.roles_changed << " of " << c.reefs.size() << " changed\n";
   if (c.plans) {
-    s << "Cull plan: Kendall's tau-b " << (std::isnan(c.tau.tau) ? std::string("n/a") : fmt("%.3f", c.tau.tau))
+    s << "  Cull plan: Kendall's tau-b " << (std::isnan(c.tau.tau) ? std::string("n/a") : fmt("%.3f", c.tau.tau))
       << " over " << c.tau_reefs << " reefs; " << c.entered.size() << " entered, " << c.left.size()
       << " left; recruitment averted " << fmt("%.1f", c.averted_pct_a) << " % -> "
       << fmt("%.1f", c.averted_pct_b) << " %\n";
   } else {
-    s << "Cull plan: not in both runs (no [cull] section in one of them)\n";
+    s << "  Cull plan: not in both runs (no [cull] section in one of them)\n";
   }
   return s.str();
 }

@@ -37,7 +37,7 @@ struct MovingLink {
   std::string source_id, sink_id;
   double fraction_a = 0, fraction_b = 0;  // settling particles / released
   double relative_change = 0;             // |b - a| / max(a, b)
-  bool significant = false;               // two-proportion test at the comparison's alpha
+  bool significant = false;               // flagged after the Benjamini-Hochberg adjustment
 };
 
 struct RankShift {

@@ -70,7 +70,7 @@ std::vector<std::filesystem::path> write_comparison_csv(const std::filesystem::p
                                                          const std::string& prefix,
                                                          const RunComparison& c);
 
-// A few lines for the terminal.
+// A few lines for the terminal, each indented by two blanks.
 std::string comparison_summary(const RunComparison& c);
 
 }  // namespace cullcast::compare
