@@ -341,8 +341,8 @@ BriefSummary run_brief_stage(const CliContext& ctx, const study::Study& study,
   const fs::path dir = study.outputs.dir;
   fs::create_directories(dir);
   if (!previous.empty()) {
-    const compare::RunComparison c =
-        compare::compare_runs(compare::read_run_outputs(previous), compare::read_run_outputs(dir));
+    const compare::RunOutputs last = compare::read_run_outputs(previous);
+    const compare::RunComparison c = compare::compare_runs(last, compare::read_run_outputs(dir));
     report::ComparisonLabels labels;
     labels.heading = "What changed since the last plan";
     labels.name_a = "last plan";

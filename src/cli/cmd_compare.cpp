@@ -32,8 +32,9 @@ void add_compare_command(CLI::App& app, CliContext& ctx) {
     ctx.action = [&ctx, o]() -> int {
       compare::CompareOptions options;
       options.alpha = o->alpha;
-      const compare::RunComparison c = compare::compare_runs(
-          compare::read_run_outputs(o->a), compare::read_run_outputs(o->b), options);
+      const compare::RunOutputs a = compare::read_run_outputs(o->a);  // A first: errors in order
+      const compare::RunOutputs b = compare::read_run_outputs(o->b);
+      const compare::RunComparison c = compare::compare_runs(a, b, options);
       const std::filesystem::path out = std::filesystem::path(o->out.empty() ? o->b : o->out);
       auto files = compare::write_comparison_csv(out, "comparison", c);
       report::ComparisonLabels labels;

@@ -64,8 +64,8 @@ void add_converge_command(CLI::App& app, CliContext& ctx) {
       ctx.out.flush();
       run_pipeline(stage, b);
 
-      const compare::RunComparison c = compare::compare_runs(compare::read_run_outputs(a.outputs.dir),
-                                                             compare::read_run_outputs(b.outputs.dir));
+      const compare::RunOutputs first_run = compare::read_run_outputs(a.outputs.dir);
+      const compare::RunComparison c = compare::compare_runs(first_run, compare::read_run_outputs(b.outputs.dir));
       compare::write_comparison_csv(dir, "comparison", c);
       report::ComparisonLabels labels;
       labels.heading = "Convergence check: N versus 2N larvae per reef";

@@ -8,6 +8,7 @@
 #include "cullcast/base/error.hpp"
 #include "cullcast/study/load_study.hpp"
 #include "section_reader.hpp"
+#include "set_override.hpp"
 
 namespace cullcast::study {
 namespace fs = std::filesystem;
@@ -135,6 +136,7 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
     throw InputError(location_text(file, e.source()) + ": not valid TOML: " + std::string(e.description()));
   }
 
+  for (const auto& item : cli_overrides) apply_override(root, item);  // --set sweep.baseline=false too
   SweepPlan plan;
   plan.outputs_dir = base.outputs.dir;
   bool baseline = true;
