@@ -8,7 +8,8 @@
 namespace cullcast::cli {
 
 void add_compare_command(CLI::App& app, CliContext& ctx) {
-  CLI::App* cmd = app.add_subcommand("compare", "Compare the outputs of two runs, link by link and rank by rank");
+  CLI::App* cmd = app.add_subcommand(
+      "compare", "Compare the outputs of two runs, link by link and rank by rank");
   cmd->footer(
       "RUN_A and RUN_B are outputs folders (A = before / baseline, B = after / variant).\n"
       "Writes comparison_links.csv, comparison_reefs.csv, comparison_summary.csv and\n"
@@ -22,7 +23,8 @@ void add_compare_command(CLI::App& app, CliContext& ctx) {
   auto o = std::make_shared<Options>();
   cmd->add_option("RUN_A", o->a, "Outputs folder of the first run")->required();
   cmd->add_option("RUN_B", o->b, "Outputs folder of the second run")->required();
-  cmd->add_option("--out", o->out, "Folder for the comparison files (default RUN_B)")->type_name("DIR");
+  cmd->add_option("--out", o->out, "Folder for the comparison files (default RUN_B)")
+      ->type_name("DIR");
   cmd->add_option("--alpha", o->alpha, "Significance level of each link test (two-sided)")
       ->capture_default_str()
       ->check(CLI::Range(1e-9, 0.5));
@@ -44,7 +46,8 @@ void add_compare_command(CLI::App& app, CliContext& ctx) {
       report::write_comparison_html(out / "comparison.html", c, labels);
       files.push_back(out / "comparison.html");
       if (!ctx.quiet) {
-        ctx.out << "Comparing " << o->a << " (" << o->name_a << ") with " << o->b << " (" << o->name_b << ")\n"
+        ctx.out << "Comparing " << o->a << " (" << o->name_a << ") with " << o->b << " ("
+                << o->name_b << ")\n"
                 << compare::comparison_summary(c) << "  outputs:";
         for (const auto& f : files) ctx.out << " " << f.filename().string();
         ctx.out << " in " << out.string() << "\n";

@@ -40,7 +40,8 @@ fs::path keep_previous(const fs::path& previous, const fs::path& outputs_dir) {
     throw InputError("--previous " + previous.string() +
                      ": not a folder (give the outputs folder of the last plan)");
   }
-  if (!fs::exists(outputs_dir, error) || !fs::equivalent(previous, outputs_dir, error)) return previous;
+  if (!fs::exists(outputs_dir, error) || !fs::equivalent(previous, outputs_dir, error))
+    return previous;
   const fs::path kept = outputs_dir / "previous-plan";
   fs::create_directories(kept);
   bool any = false;

@@ -14,8 +14,9 @@
 namespace cullcast::cli {
 
 struct PipelineOptions {
-  std::filesystem::path previous;          // outputs of the last plan; empty = none
-  std::filesystem::path settlement_from;   // copy the drift outputs from this folder instead of drifting
+  std::filesystem::path previous;  // outputs of the last plan; empty = none
+  std::filesystem::path
+      settlement_from;  // copy the drift outputs from this folder instead of drifting
 };
 
 struct PipelineSummary {

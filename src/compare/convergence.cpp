@@ -25,7 +25,8 @@ double normal_quantile(double q) {
 
 std::int64_t particles_for_precision(double p, double r, double confidence) {
   if (!(p > 0 && p < 1) || !(r > 0) || !(confidence > 0 && confidence < 1)) {
-    throw std::invalid_argument("particles_for_precision: need 0 < p < 1, r > 0, 0 < confidence < 1");
+    throw std::invalid_argument(
+        "particles_for_precision: need 0 < p < 1, r > 0, 0 < confidence < 1");
   }
   const double z = normal_quantile(0.5 + confidence / 2);
   return static_cast<std::int64_t>(std::ceil(z * z * (1 - p) / (r * r * p) - 1e-9));
@@ -48,7 +49,8 @@ ConvergenceReport assess_convergence(const RunComparison& c, const ConvergenceOp
     m.fraction_b = static_cast<double>(l.settlers_b) / static_cast<double>(l.released_b);
     if (std::max(m.fraction_a, m.fraction_b) < o.probability) continue;
     ++r.links_considered;
-    m.relative_change = std::fabs(m.fraction_b - m.fraction_a) / std::max(m.fraction_a, m.fraction_b);
+    m.relative_change =
+        std::fabs(m.fraction_b - m.fraction_a) / std::max(m.fraction_a, m.fraction_b);
     m.significant = l.significant_fdr;
     if (m.relative_change > o.relative_precision) r.moving.push_back(m);
   }
@@ -56,10 +58,12 @@ ConvergenceReport assess_convergence(const RunComparison& c, const ConvergenceOp
     return x.relative_change > y.relative_change;
   });
   for (const auto& reef : c.reefs) {
-    if (reef.rank_a != reef.rank_b) r.rank_shifts.push_back({reef.reef_id, reef.rank_a, reef.rank_b});
+    if (reef.rank_a != reef.rank_b)
+      r.rank_shifts.push_back({reef.reef_id, reef.rank_a, reef.rank_b});
   }
   r.particles_needed = particles_for_precision(o.probability, o.relative_precision, o.confidence);
-  if (r.particles_b > 0) r.precision_b = relative_half_width(o.probability, r.particles_b, o.confidence);
+  if (r.particles_b > 0)
+    r.precision_b = relative_half_width(o.probability, r.particles_b, o.confidence);
   return r;
 }
 

@@ -118,7 +118,8 @@ Table read(const std::filesystem::path& path) {
       field += c;
     }
   }
-  if (quoted) throw InputError(t.file + " line " + std::to_string(record_line) + ": a quote is not closed");
+  if (quoted)
+    throw InputError(t.file + " line " + std::to_string(record_line) + ": a quote is not closed");
   if (in_record) {
     fields.push_back(field);
     if (!(fields.size() == 1 && fields[0].empty())) {

@@ -36,7 +36,8 @@ std::vector<double> benjamini_hochberg(const std::vector<double>& p_values) {
   std::vector<double> q(m, 1.0);
   double running = 1.0;
   for (std::size_t k = m; k-- > 0;) {  // from the largest p down: running minimum
-    const double candidate = p_values[order[k]] * static_cast<double>(m) / static_cast<double>(k + 1);
+    const double candidate =
+        p_values[order[k]] * static_cast<double>(m) / static_cast<double>(k + 1);
     running = std::min(running, candidate);
     q[order[k]] = std::min(1.0, running);
   }

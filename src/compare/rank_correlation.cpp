@@ -28,8 +28,8 @@ TauB kendall_tau_b(const std::vector<double>& x, const std::vector<double>& y) {
     }
   }
   const double n0 = static_cast<double>(n) * static_cast<double>(n - (n > 0)) / 2;
-  const double denominator = std::sqrt((n0 - static_cast<double>(t.tied_x)) *
-                                       (n0 - static_cast<double>(t.tied_y)));
+  const double denominator =
+      std::sqrt((n0 - static_cast<double>(t.tied_x)) * (n0 - static_cast<double>(t.tied_y)));
   t.tau = denominator > 0 ? static_cast<double>(t.concordant - t.discordant) / denominator
                           : std::numeric_limits<double>::quiet_NaN();
   return t;

@@ -69,7 +69,8 @@ void rank_vectors(const RunOutputs& a, const RunOutputs& b, std::vector<std::str
   for (const auto& p : b.plan) add(p.reef_id);
 }
 
-RunComparison compare_runs(const RunOutputs& a, const RunOutputs& b, const CompareOptions& options) {
+RunComparison compare_runs(const RunOutputs& a, const RunOutputs& b,
+                           const CompareOptions& options) {
   RunComparison c;
   c.dir_a = a.dir;
   c.dir_b = b.dir;
@@ -109,7 +110,8 @@ RunComparison compare_runs(const RunOutputs& a, const RunOutputs& b, const Compa
   }
   const std::vector<double> q = benjamini_hochberg(p_values);
   std::map<std::pair<std::string, std::string>, double> q_by_link;
-  for (std::size_t i = 0; i < tested.size(); ++i) q_by_link[{tested[i]->source_id, tested[i]->sink_id}] = q[i];
+  for (std::size_t i = 0; i < tested.size(); ++i)
+    q_by_link[{tested[i]->source_id, tested[i]->sink_id}] = q[i];
   for (auto& x : c.links) {
     const auto it = q_by_link.find({x.source_id, x.sink_id});
     if (it != q_by_link.end()) x.q_value = it->second;
@@ -200,8 +202,8 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
     out << "reef_id,role_a,role_b,role_changed,export_a,export_b,import_a,import_b,rank_a,rank_b,"
            "rank_shift,plan\n";
     for (const auto& r : c.reefs) {
-      const char* plan = r.rank_a == 0 ? (r.rank_b == 0 ? "" : "entered")
-                                       : (r.rank_b == 0 ? "left" : "kept");
+      const char* plan =
+          r.rank_a == 0 ? (r.rank_b == 0 ? "" : "entered") : (r.rank_b == 0 ? "left" : "kept");
       out << csv_field(r.reef_id) << ',' << r.role_a << ',' << r.role_b << ','
           << (r.role_changed() ? "true" : "false") << ',' << num(r.export_a) << ','
           << num(r.export_b) << ',' << num(r.import_a) << ',' << num(r.import_b) << ','
@@ -248,14 +250,14 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
 std::string comparison_summary(const RunComparison& c) {
   std::ostringstream s;
   s << "  Links: " << c.links.size() << " in either run, " << c.links_tested << " testable; "
-    << c.links_significant << " differ at the " << fmt("%g", 100 * c.alpha)
-    << " % level (about " << fmt("%.1f", c.expected_false_positives)
-    << " expected by chance alone if nothing changed), " << c.links_significant_fdr
-    << " after the Benjamini-Hochberg false discovery rate adjustment\n";
+    << c.links_significant << " differ at the " << fmt("%g", 100 * c.alpha) << " % level (about "
+    << fmt("%.1f", c.expected_false_positives) << " expected by chance alone if nothing changed), "
+    << c.links_significant_fdr << " after the Benjamini-Hochberg false discovery rate adjustment\n";
   s << "  Reef roles: " << c.roles_changed << " of " << c.reefs.size() << " changed\n";
   if (c.plans) {
-    s << "  Cull plan: Kendall's tau-b " << (std::isnan(c.tau.tau) ? std::string("n/a") : fmt("%.3f", c.tau.tau))
-      << " over " << c.tau_reefs << " reefs; " << c.entered.size() << " entered, " << c.left.size()
+    s << "  Cull plan: Kendall's tau-b "
+      << (std::isnan(c.tau.tau) ? std::string("n/a") : fmt("%.3f", c.tau.tau)) << " over "
+      << c.tau_reefs << " reefs; " << c.entered.size() << " entered, " << c.left.size()
       << " left; recruitment averted " << fmt("%.1f", c.averted_pct_a) << " % -> "
       << fmt("%.1f", c.averted_pct_b) << " %\n";
   } else {

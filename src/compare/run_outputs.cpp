@@ -20,8 +20,9 @@ fs::path need(const fs::path& dir, const char* name, const char* command) {
   const fs::path p = dir / name;
   std::error_code error;
   if (!fs::is_regular_file(p, error)) {
-    throw InputError("run folder " + dir.string() + ": " + name + " not found (written by `cullcast " +
-                     command + "`; is this a cullcast output folder?)");
+    throw InputError("run folder " + dir.string() + ": " + name +
+                     " not found (written by `cullcast " + command +
+                     "`; is this a cullcast output folder?)");
   }
   return p;
 }
@@ -107,7 +108,8 @@ RunOutputs read_run_outputs(const fs::path& dir) {
   r.dir = dir;
   std::error_code error;
   if (!fs::is_directory(dir, error)) {
-    throw InputError("run folder " + dir.string() + ": not a folder (give the outputs folder of a run)");
+    throw InputError("run folder " + dir.string() +
+                     ": not a folder (give the outputs folder of a run)");
   }
   read_links(r);
   read_roles(r);

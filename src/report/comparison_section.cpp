@@ -49,9 +49,10 @@ std::string svg_rank_slope(const compare::RunComparison& c, const ComparisonLabe
     << html_escape(labels.name_b) << "' font-size='11' font-family='DejaVu Sans, sans-serif'>\n";
   s << "<text x='" << left << "' y='16' text-anchor='middle' font-weight='bold'>"
     << html_escape(labels.name_a) << "</text><text x='" << right
-    << "' y='16' text-anchor='middle' font-weight='bold'>" << html_escape(labels.name_b) << "</text>\n";
-  s << "<line x1='" << left << "' y1='" << y(rows) - 9 << "' x2='" << right << "' y2='" << y(rows) - 9
-    << "' stroke='#d5dbe0' stroke-dasharray='3 3'/>\n";
+    << "' y='16' text-anchor='middle' font-weight='bold'>" << html_escape(labels.name_b)
+    << "</text>\n";
+  s << "<line x1='" << left << "' y1='" << y(rows) - 9 << "' x2='" << right << "' y2='"
+    << y(rows) - 9 << "' stroke='#d5dbe0' stroke-dasharray='3 3'/>\n";
   s << "<text x='" << (left + right) / 2 << "' y='" << y(rows) + 4
     << "' text-anchor='middle' fill='#5a6670'>not in plan</text>\n";
   for (const auto& r : c.reefs) {
@@ -73,13 +74,13 @@ std::string svg_rank_slope(const compare::RunComparison& c, const ComparisonLabe
     s << " \u2192 ";
     rank_text(r.rank_b);
     s << "</title>";
-    s << "<line x1='" << left << "' y1='" << y(r.rank_a) << "' x2='" << right << "' y2='" << y(r.rank_b)
-      << "' stroke='" << colour << "' stroke-width='" << (same ? 1.2 : 2.2) << "'/>";
+    s << "<line x1='" << left << "' y1='" << y(r.rank_a) << "' x2='" << right << "' y2='"
+      << y(r.rank_b) << "' stroke='" << colour << "' stroke-width='" << (same ? 1.2 : 2.2) << "'/>";
     s << "<circle cx='" << left << "' cy='" << y(r.rank_a) << "' r='3' fill='" << colour << "'/>";
     s << "<circle cx='" << right << "' cy='" << y(r.rank_b) << "' r='3' fill='" << colour << "'/>";
     if (r.rank_a) {
-      s << "<text x='" << left - 8 << "' y='" << y(r.rank_a) + 4 << "' text-anchor='end'>" << r.rank_a
-        << ". " << html_escape(r.reef_id) << "</text>";
+      s << "<text x='" << left - 8 << "' y='" << y(r.rank_a) + 4 << "' text-anchor='end'>"
+        << r.rank_a << ". " << html_escape(r.reef_id) << "</text>";
     }
     if (r.rank_b) {
       s << "<text x='" << right + 8 << "' y='" << y(r.rank_b) + 4 << "'>" << r.rank_b << ". "
@@ -97,21 +98,24 @@ std::string render_comparison_section(const compare::RunComparison& c,
   const std::string a = html_escape(labels.name_a), b = html_escape(labels.name_b);
   s << "<section class='comparison'><h2>" << html_escape(labels.heading) << "</h2>\n";
   s << "<p class='sub'>" << a << " = <span class='mono'>" << html_escape(c.dir_a.string())
-    << "</span>; " << b << " = <span class='mono'>" << html_escape(c.dir_b.string()) << "</span></p>\n";
+    << "</span>; " << b << " = <span class='mono'>" << html_escape(c.dir_b.string())
+    << "</span></p>\n";
   s << "<div class='keys'>";
   s << "<div class='key'><b>" << c.links_significant << " / " << c.links_tested
     << "</b><span>links that differ beyond sampling noise at the " << sig(100 * c.alpha)
-    << " % level (about " << fixed(c.expected_false_positives, 1)
-    << " expected by chance alone); " << c.links_significant_fdr
-    << " after the false discovery rate adjustment</span></div>";
-  s << "<div class='key'><b>" << c.roles_changed << "</b><span>reefs changed role (source, sink, "
+    << " % level (about " << fixed(c.expected_false_positives, 1) << " expected by chance alone); "
+    << c.links_significant_fdr << " after the false discovery rate adjustment</span></div>";
+  s << "<div class='key'><b>" << c.roles_changed
+    << "</b><span>reefs changed role (source, sink, "
        "exchange, isolated)</span></div>";
   if (c.plans) {
-    s << "<div class='key'><b>" << (std::isnan(c.tau.tau) ? std::string("&ndash;") : fixed(c.tau.tau, 2))
+    s << "<div class='key'><b>"
+      << (std::isnan(c.tau.tau) ? std::string("&ndash;") : fixed(c.tau.tau, 2))
       << "</b><span>Kendall's tau-b between the two cull rankings (1 = same order)</span></div>";
-    s << "<div class='key'><b>" << fixed(c.averted_pct_a, 1) << " \u2192 " << fixed(c.averted_pct_b, 1)
-      << " %</b><span>recruitment on priority reefs averted by the plan (" << signed_fixed(c.averted_pct_b - c.averted_pct_a, 1)
-      << " points)</span></div>";
+    s << "<div class='key'><b>" << fixed(c.averted_pct_a, 1) << " \u2192 "
+      << fixed(c.averted_pct_b, 1)
+      << " %</b><span>recruitment on priority reefs averted by the plan ("
+      << signed_fixed(c.averted_pct_b - c.averted_pct_a, 1) << " points)</span></div>";
   }
   s << "</div>\n";
   if (c.identical()) s << "<p>No difference: every link count, role and rank is the same.</p>\n";
@@ -122,12 +126,14 @@ std::string render_comparison_section(const compare::RunComparison& c,
       s << "<p>";
       if (!c.entered.empty()) {
         s << "Entering the recommended set: ";
-        for (std::size_t i = 0; i < c.entered.size(); ++i) s << (i ? ", " : "") << "<b>" << html_escape(c.entered[i]) << "</b>";
+        for (std::size_t i = 0; i < c.entered.size(); ++i)
+          s << (i ? ", " : "") << "<b>" << html_escape(c.entered[i]) << "</b>";
         s << ". ";
       }
       if (!c.left.empty()) {
         s << "Leaving it: ";
-        for (std::size_t i = 0; i < c.left.size(); ++i) s << (i ? ", " : "") << "<b>" << html_escape(c.left[i]) << "</b>";
+        for (std::size_t i = 0; i < c.left.size(); ++i)
+          s << (i ? ", " : "") << "<b>" << html_escape(c.left[i]) << "</b>";
         s << ".";
       }
       s << "</p>\n";
@@ -136,47 +142,60 @@ std::string render_comparison_section(const compare::RunComparison& c,
     }
     s << "<figure>" << svg_rank_slope(c, labels)
       << "<figcaption>Rank of each recommended cull site in " << a << " (left) and " << b
-      << " (right). Blue: moved up or entered the plan; rust: moved down or left it; grey: same rank."
+      << " (right). Blue: moved up or entered the plan; rust: moved down or left it; grey: same "
+         "rank."
       << "</figcaption></figure>\n";
   }
 
   s << "<h3>Links that changed most</h3>\n";
   int shown = 0;
   s << "<table><thead><tr><th>from</th><th>to</th><th>P in " << a << "</th><th>P in " << b
-    << "</th><th>change</th><th>settling particles</th><th>p-value</th><th>beyond noise?</th></tr></thead><tbody>\n";
+    << "</th><th>change</th><th>settling particles</th><th>p-value</th><th>beyond "
+       "noise?</th></tr></thead><tbody>\n";
   for (const auto& l : c.links) {
     if (shown >= labels.max_links) break;
     if (!l.significant) continue;
     ++shown;
-    s << "<tr><td class='mono'>" << html_escape(l.source_id) << "</td><td class='mono'>" << html_escape(l.sink_id)
-      << "</td><td class='n'>" << sig(l.probability_a) << "</td><td class='n'>" << sig(l.probability_b)
-      << "</td><td class='n'>" << sig(l.difference()) << "</td><td class='n'>" << l.settlers_a << " / "
-      << l.released_a << " \u2192 " << l.settlers_b << " / " << l.released_b << "</td><td class='n'>"
-      << sig(l.test.p_value, 2) << "</td><td>" << (l.significant_fdr ? "yes (also after FDR)" : "yes")
-      << (l.test.min_expected < 5 ? " <span class='warn'>few particles</span>" : "") << "</td></tr>\n";
+    s << "<tr><td class='mono'>" << html_escape(l.source_id) << "</td><td class='mono'>"
+      << html_escape(l.sink_id) << "</td><td class='n'>" << sig(l.probability_a)
+      << "</td><td class='n'>" << sig(l.probability_b) << "</td><td class='n'>"
+      << sig(l.difference()) << "</td><td class='n'>" << l.settlers_a << " / " << l.released_a
+      << " \u2192 " << l.settlers_b << " / " << l.released_b << "</td><td class='n'>"
+      << sig(l.test.p_value, 2) << "</td><td>"
+      << (l.significant_fdr ? "yes (also after FDR)" : "yes")
+      << (l.test.min_expected < 5 ? " <span class='warn'>few particles</span>" : "")
+      << "</td></tr>\n";
   }
-  if (shown == 0) s << "<tr><td colspan='8'>No link differs beyond sampling noise at this level.</td></tr>\n";
-  s << "</tbody></table>\n<p class='sub'>P = probability that a larva released on the first reef settles on "
-       "the second (pooled over spawning events). The test compares the fractions of released particles that "
+  if (shown == 0)
+    s << "<tr><td colspan='8'>No link differs beyond sampling noise at this level.</td></tr>\n";
+  s << "</tbody></table>\n<p class='sub'>P = probability that a larva released on the first reef "
+       "settles on "
+       "the second (pooled over spawning events). The test compares the fractions of released "
+       "particles that "
        "settled (two-proportion z-test, two-sided, level "
-    << sig(c.alpha) << "); with " << c.links_tested
-    << " links tested, about " << fixed(c.expected_false_positives, 1)
-    << " would be flagged by chance alone even if nothing had changed, so single flagged links with large "
-       "p-values deserve little weight. \u201cAlso after FDR\u201d: still flagged when the Benjamini\u2013"
-       "Hochberg false discovery rate is held at the same level. Full table: the comparison CSV files.</p>\n";
+    << sig(c.alpha) << "); with " << c.links_tested << " links tested, about "
+    << fixed(c.expected_false_positives, 1)
+    << " would be flagged by chance alone even if nothing had changed, so single flagged links "
+       "with large "
+       "p-values deserve little weight. \u201cAlso after FDR\u201d: still flagged when the "
+       "Benjamini\u2013"
+       "Hochberg false discovery rate is held at the same level. Full table: the comparison CSV "
+       "files.</p>\n";
 
   if (c.roles_changed > 0) {
-    s << "<h3>Reefs that changed role</h3><table><thead><tr><th>reef</th><th>" << a << "</th><th>" << b
-      << "</th><th>export " << a << " \u2192 " << b << "</th><th>import " << a << " \u2192 " << b
-      << "</th></tr></thead><tbody>\n";
+    s << "<h3>Reefs that changed role</h3><table><thead><tr><th>reef</th><th>" << a << "</th><th>"
+      << b << "</th><th>export " << a << " \u2192 " << b << "</th><th>import " << a << " \u2192 "
+      << b << "</th></tr></thead><tbody>\n";
     for (const auto& r : c.reefs) {
       if (!r.role_changed()) continue;
-      s << "<tr><td class='mono'>" << html_escape(r.reef_id) << "</td><td><span class='swatch' style='background:"
-        << role_colour(r.role_a) << "'></span>" << html_escape(r.role_a.empty() ? "(absent)" : r.role_a)
-        << "</td><td><span class='swatch' style='background:" << role_colour(r.role_b) << "'></span>"
-        << html_escape(r.role_b.empty() ? "(absent)" : r.role_b) << "</td><td class='n'>" << sig(r.export_a)
-        << " \u2192 " << sig(r.export_b) << "</td><td class='n'>" << sig(r.import_a) << " \u2192 "
-        << sig(r.import_b) << "</td></tr>\n";
+      s << "<tr><td class='mono'>" << html_escape(r.reef_id)
+        << "</td><td><span class='swatch' style='background:" << role_colour(r.role_a)
+        << "'></span>" << html_escape(r.role_a.empty() ? "(absent)" : r.role_a)
+        << "</td><td><span class='swatch' style='background:" << role_colour(r.role_b)
+        << "'></span>" << html_escape(r.role_b.empty() ? "(absent)" : r.role_b)
+        << "</td><td class='n'>" << sig(r.export_a) << " \u2192 " << sig(r.export_b)
+        << "</td><td class='n'>" << sig(r.import_a) << " \u2192 " << sig(r.import_b)
+        << "</td></tr>\n";
     }
     s << "</tbody></table>\n";
   }
@@ -189,10 +208,12 @@ void write_comparison_html(const std::filesystem::path& file, const compare::Run
   std::ostringstream s;
   s << "<!DOCTYPE html>\n<html lang='en'>\n<head>\n<meta charset='utf-8'>\n"
     << "<meta name='viewport' content='width=device-width, initial-scale=1'>\n"
-    << "<meta http-equiv='Content-Security-Policy' content=\"default-src 'none'; style-src 'unsafe-inline'; img-src data:\">\n"
-    << "<title>" << html_escape(labels.heading) << " \u2014 cullcast</title>\n<style>" << briefing_css()
-    << "</style>\n</head>\n<body>\n<main>\n<header class='top'><h1>" << html_escape(labels.heading)
-    << "</h1><p class='sub'>cullcast " << html_escape(CULLCAST_VERSION) << "</p></header>\n"
+    << "<meta http-equiv='Content-Security-Policy' content=\"default-src 'none'; style-src "
+       "'unsafe-inline'; img-src data:\">\n"
+    << "<title>" << html_escape(labels.heading) << " \u2014 cullcast</title>\n<style>"
+    << briefing_css() << "</style>\n</head>\n<body>\n<main>\n<header class='top'><h1>"
+    << html_escape(labels.heading) << "</h1><p class='sub'>cullcast "
+    << html_escape(CULLCAST_VERSION) << "</p></header>\n"
     << render_comparison_section(c, labels) << "</main>\n</body>\n</html>\n";
   write_text_atomically(file, s.str());
 }

@@ -56,7 +56,8 @@ std::string value_text(const toml::node& n) {
 std::string read_text(const fs::path& scenario) {
   std::ifstream in(scenario, std::ios::binary);
   if (!in) {
-    throw InputError("cannot open scenario file " + scenario.string() + ": no such file or not readable");
+    throw InputError("cannot open scenario file " + scenario.string() +
+                     ": no such file or not readable");
   }
   std::ostringstream text;
   text << in.rdbuf();
@@ -112,13 +113,14 @@ Study load_variant(const fs::path& scenario, const std::vector<std::string>& cli
       try {
         attempt(k + 1);
       } catch (const InputError& e) {
-        const std::string& where = k < variant.locations.size() ? variant.locations[k] : variant.where;
+        const std::string& where =
+            k < variant.locations.size() ? variant.locations[k] : variant.where;
         throw InputError(where + ": variant \"" + variant.name + "\", override \"" +
                          variant.overrides[k] + "\": " + strip_set_prefix(e.what(), file));
       }
     }
-    throw InputError(variant.where + ": variant \"" + variant.name + "\": " +
-                     strip_set_prefix(whole.what(), file));
+    throw InputError(variant.where + ": variant \"" + variant.name +
+                     "\": " + strip_set_prefix(whole.what(), file));
   }
 }
 
@@ -133,18 +135,20 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
   try {
     root = toml::parse(read_text(scenario), file);
   } catch (const toml::parse_error& e) {
-    throw InputError(location_text(file, e.source()) + ": not valid TOML: " + std::string(e.description()));
+    throw InputError(location_text(file, e.source()) +
+                     ": not valid TOML: " + std::string(e.description()));
   }
 
-  for (const auto& item : cli_overrides) apply_override(root, item);  // --set sweep.baseline=false too
+  for (const auto& item : cli_overrides)
+    apply_override(root, item);  // --set sweep.baseline=false too
   SweepPlan plan;
   plan.outputs_dir = base.outputs.dir;
   bool baseline = true;
   std::vector<Axis> axes;
   const toml::node* sweep_node = root.get("sweep");
   if (sweep_node != nullptr && !sweep_node->is_table()) {
-    throw InputError(location_text(file, sweep_node->source()) + ": [sweep] expected a table, found " +
-                     describe_node(*sweep_node));
+    throw InputError(location_text(file, sweep_node->source()) +
+                     ": [sweep] expected a table, found " + describe_node(*sweep_node));
   }
   const toml::table* sweep = sweep_node ? sweep_node->as_table() : nullptr;
   SectionReader r(sweep, "sweep", file, root.source());
@@ -152,13 +156,15 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
   r.mark_known("vary");
   if (r.has("vary")) {
     const toml::node* v = sweep->get("vary");
-    if (!v->is_table()) r.fail("vary", "expected a table of \"section.key\" = [values], found " + describe_node(*v));
+    if (!v->is_table())
+      r.fail("vary", "expected a table of \"section.key\" = [values], found " + describe_node(*v));
     for (auto&& [key, values] : *v->as_table()) {
       Axis axis;
       axis.key = std::string(key.str());
       axis.where = location_text(file, key.source());
       if (!values.is_array() || values.as_array()->empty()) {
-        throw InputError(axis.where + ": [sweep] vary \"" + axis.key + "\": expected a non-empty array of values, found " +
+        throw InputError(axis.where + ": [sweep] vary \"" + axis.key +
+                         "\": expected a non-empty array of values, found " +
                          describe_node(values));
       }
       for (const auto& x : *values.as_array()) axis.values.push_back(value_text(x));
@@ -175,7 +181,8 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
     std::istringstream parts(rest);
     while (std::getline(parts, current, ',')) {
       current = trim(current);
-      if (current.empty()) throw InputError(axis.where + ": empty value (expected section.key=v1,v2,...)");
+      if (current.empty())
+        throw InputError(axis.where + ": empty value (expected section.key=v1,v2,...)");
       axis.values.push_back(current);
     }
     if (axis.values.empty()) throw InputError(axis.where + ": expected section.key=v1,v2,...");
@@ -183,14 +190,16 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
   }
   if (axes.size() > 2) {
     throw InputError(axes[2].where + ": a grid varies at most two settings (found " +
-                     std::to_string(axes.size()) + "); list other combinations as [[variant]] blocks");
+                     std::to_string(axes.size()) +
+                     "); list other combinations as [[variant]] blocks");
   }
 
   if (baseline) plan.variants.push_back({"baseline", {}, file, {}});
   if (const toml::node* blocks = root.get("variant")) {
     if (!blocks->is_array_of_tables()) {
       throw InputError(location_text(file, blocks->source()) +
-                       ": [[variant]] expected blocks written [[variant]], found " + describe_node(*blocks));
+                       ": [[variant]] expected blocks written [[variant]], found " +
+                       describe_node(*blocks));
     }
     for (const auto& block : *blocks->as_array()) {
       const toml::table& t = *block.as_table();
@@ -199,9 +208,11 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
       variant.where = location_text(file, t.source());
       variant.name = v.required_text("name");
       if (!valid_name(variant.name)) {
-        v.fail("name", "\"" + variant.name + "\" cannot be a folder name; use letters, digits, '.', '_' and '-'");
+        v.fail("name", "\"" + variant.name +
+                           "\" cannot be a folder name; use letters, digits, '.', '_' and '-'");
       }
-      for (const auto& item : v.text_list("set", true)) variant.overrides.push_back(normalise_override(item));
+      for (const auto& item : v.text_list("set", true))
+        variant.overrides.push_back(normalise_override(item));
       for (const auto& item : *t.get("set")->as_array()) {
         variant.locations.push_back(location_text(file, item.source()));
       }
@@ -234,13 +245,15 @@ SweepPlan read_sweep_plan(const fs::path& scenario, const std::vector<std::strin
     }
   }
   if (plan.variants.empty()) {
-    throw InputError(file + ": nothing to sweep: add [[variant]] blocks (name, set) or [sweep] vary, "
+    throw InputError(file +
+                     ": nothing to sweep: add [[variant]] blocks (name, set) or [sweep] vary, "
                      "or give --vary section.key=v1,v2");
   }
   std::set<std::string> names;
   for (const auto& v : plan.variants) {
     if (!names.insert(v.name).second) {
-      throw InputError(v.where + ": two variants are named \"" + v.name + "\" (each needs its own folder)");
+      throw InputError(v.where + ": two variants are named \"" + v.name +
+                       "\" (each needs its own folder)");
     }
   }
   for (const auto& v : plan.variants) load_variant(scenario, cli_overrides, plan, v);

@@ -4,9 +4,9 @@
 // links than the test's false-positive rate allows; a run compared with itself
 // shows nothing; `brief --previous` opens with what changed; `converge`
 // recommends the particle count of its documented formula.
-#include <catch2/catch.hpp>
 #include <sys/wait.h>
 
+#include <catch2/catch.hpp>
 #include <cmath>
 #include <cstdlib>
 #include <filesystem>
@@ -49,17 +49,21 @@ struct DemoStudy {
     dir = fs::temp_directory_path() / ("cullcast-experiments-" + name);
     fs::remove_all(dir);
     fs::create_directories(dir);
-    REQUIRE(run("-q demo-data --days " + std::to_string(days) + " " + (dir / "currents").string()) == 0);
+    REQUIRE(run("-q demo-data --days " + std::to_string(days) + " " +
+                (dir / "currents").string()) == 0);
     const fs::path demo = fs::path(CULLCAST_SOURCE_DIR) / "scenarios";
     std::string text = read_all(demo / "lantern-reach.toml");
     text = std::regex_replace(text, std::regex("\"lantern-reach/currents/\\*\\.nc\""),
                               "\"" + (dir / "currents").string() + "/*.nc\"");
-    text = std::regex_replace(text, std::regex("\"lantern-reach/"), "\"" + (demo / "lantern-reach").string() + "/");
-    text = std::regex_replace(text, std::regex("dir = \"[^\"]*\""), "dir = \"" + (dir / "out").string() + "\"");
+    text = std::regex_replace(text, std::regex("\"lantern-reach/"),
+                              "\"" + (demo / "lantern-reach").string() + "/");
+    text = std::regex_replace(text, std::regex("dir = \"[^\"]*\""),
+                              "dir = \"" + (dir / "out").string() + "\"");
     text = std::regex_replace(text, std::regex("larvae_per_reef = 300"), "larvae_per_reef = 40");
     text = std::regex_replace(text, std::regex("competent_days = 29.0"), "competent_days = 6.0");
-    text += "\n[[variant]]\nname = \"other-seed\"\nset = [\"study.seed = 7\"]\n"
-            "\n[[variant]]\nname = \"more-boats\"\nset = [\"cull.vessel_days = 18.0\"]\n";
+    text +=
+        "\n[[variant]]\nname = \"other-seed\"\nset = [\"study.seed = 7\"]\n"
+        "\n[[variant]]\nname = \"more-boats\"\nset = [\"cull.vessel_days = 18.0\"]\n";
     std::ofstream(dir / "s.toml") << text;
   }
   ~DemoStudy() {
@@ -67,8 +71,8 @@ struct DemoStudy {
     fs::remove_all(dir, ignored);
   }
   int run(const std::string& args) const {
-    const std::string cmd = std::string(CULLCAST_EXE) + " " + args + " >" + (dir / "stdout").string() + " 2>" +
-                            (dir / "stderr").string();
+    const std::string cmd = std::string(CULLCAST_EXE) + " " + args + " >" +
+                            (dir / "stdout").string() + " 2>" + (dir / "stderr").string();
     return WEXITSTATUS(std::system(cmd.c_str()));
   }
   std::string out() const { return read_all(dir / "stdout"); }
@@ -77,8 +81,9 @@ struct DemoStudy {
 
 }  // namespace
 
-TEST_CASE("sweep variants equal separate runs; seed-only differences stay within the false-positive rate",
-          "[slow]") {
+TEST_CASE(
+    "sweep variants equal separate runs; seed-only differences stay within the false-positive rate",
+    "[slow]") {
   fs::create_directories(fs::temp_directory_path());
   DemoStudy d("sweep", 27);
   const fs::path out = d.dir / "out";
@@ -91,12 +96,12 @@ TEST_CASE("sweep variants equal separate runs; seed-only differences stay within
   CHECK_THAT(table, Contains("\"more-boats\",\"cull.vessel_days=18.0\",\"baseline\","));
 
   // Separate runs with the same --set overrides give the same files, byte for byte.
-  REQUIRE(d.run("-q --set study.seed=7 --set outputs.dir=" + (d.dir / "separate-seed").string() + " run " +
-                d.scenario()) == 0);
-  REQUIRE(d.run("-q --set cull.vessel_days=18.0 --set outputs.dir=" + (d.dir / "separate-boats").string() +
+  REQUIRE(d.run("-q --set study.seed=7 --set outputs.dir=" + (d.dir / "separate-seed").string() +
                 " run " + d.scenario()) == 0);
-  for (const char* file : {"settlement.csv", "connectivity.csv", "reef_metrics.csv", "stepping_stones.csv",
-                           "cull_ranking.csv", "cull_curve.csv"}) {
+  REQUIRE(d.run("-q --set cull.vessel_days=18.0 --set outputs.dir=" +
+                (d.dir / "separate-boats").string() + " run " + d.scenario()) == 0);
+  for (const char* file : {"settlement.csv", "connectivity.csv", "reef_metrics.csv",
+                           "stepping_stones.csv", "cull_ranking.csv", "cull_curve.csv"}) {
     INFO(file);
     const std::string variant = read_all(out / "other-seed" / file);
     CHECK(!variant.empty());
@@ -117,11 +122,12 @@ TEST_CASE("sweep variants equal separate runs; seed-only differences stay within
   // The cull-only variant shares the drift: every link count identical.
   const auto boats = summary(out / "more-boats" / "vs_baseline_summary.csv");
   CHECK(boats.at("links_significant") == "0");
-  CHECK(read_all(out / "more-boats" / "settlement.nc") == read_all(out / "baseline" / "settlement.nc"));
+  CHECK(read_all(out / "more-boats" / "settlement.nc") ==
+        read_all(out / "baseline" / "settlement.nc"));
 
   // A run compared with itself: no difference, tau = 1.
-  REQUIRE(d.run("compare " + (out / "baseline").string() + " " + (out / "baseline").string() + " --out " +
-                (d.dir / "self").string()) == 0);
+  REQUIRE(d.run("compare " + (out / "baseline").string() + " " + (out / "baseline").string() +
+                " --out " + (d.dir / "self").string()) == 0);
   const auto self = summary(d.dir / "self" / "comparison_summary.csv");
   CHECK(self.at("links_significant") == "0");
   CHECK(self.at("roles_changed") == "0");
@@ -162,7 +168,8 @@ TEST_CASE("converge reruns with twice the larvae and recommends Cochran's count"
   // The doubled run released twice the particles per source (3 events x 40).
   CHECK_THAT(read_all(dir / "doubled" / "connectivity.csv"), Contains(",all,120,"));
   const long n = cullcast::compare::particles_for_precision(0.01, 0.25, 0.95);
-  CHECK(n == static_cast<long>(std::ceil(1.959963984540054 * 1.959963984540054 * 0.99 / (0.0625 * 0.01))));
+  CHECK(n == static_cast<long>(
+                 std::ceil(1.959963984540054 * 1.959963984540054 * 0.99 / (0.0625 * 0.01))));
   CHECK_THAT(log, Contains("= " + std::to_string(n) + " larvae over all events, i.e. " +
                            std::to_string((n + 2) / 3) + " larvae per reef per event"));
   CHECK_THAT(log, Contains("still move by more than 25 %"));

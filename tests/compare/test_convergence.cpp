@@ -1,7 +1,6 @@
 // Particle count for a target precision (Cochran 1977, Sampling Techniques,
 // 3rd ed.: n0 = z^2 p q / d^2; from memory) and the convergence report.
 #include <catch2/catch.hpp>
-
 #include <cmath>
 
 #include "compare_test_support.hpp"
@@ -10,7 +9,8 @@
 using namespace cullcast::compare;
 using Catch::Detail::Approx;
 
-TEST_CASE("normal quantile matches scipy's value at 0.975 and is the inverse of the tail", "[compare]") {
+TEST_CASE("normal quantile matches scipy's value at 0.975 and is the inverse of the tail",
+          "[compare]") {
   // 1.959963984540054 printed by scipy.stats.norm.ppf(0.975), Debian python3-scipy 1.10.1
   CHECK(normal_quantile(0.975) == Approx(1.959963984540054).epsilon(1e-12));
   CHECK(normal_quantile(0.5) == Approx(0).margin(1e-12));
@@ -23,10 +23,12 @@ TEST_CASE("normal quantile matches scipy's value at 0.975 and is the inverse of 
 TEST_CASE("particles for a relative precision: Cochran's n0 with d = r p", "[compare]") {
   // p = 0.01, r = 0.2, 95 %: n0 = 1.95996^2 * 0.99 / (0.04 * 0.01) = 9507.4 -> 9508
   const double z = 1.959963984540054;
-  CHECK(particles_for_precision(0.01, 0.2, 0.95) == static_cast<long>(std::ceil(z * z * 0.99 / (0.04 * 0.01))));
+  CHECK(particles_for_precision(0.01, 0.2, 0.95) ==
+        static_cast<long>(std::ceil(z * z * 0.99 / (0.04 * 0.01))));
   CHECK(particles_for_precision(0.01, 0.2, 0.95) == 9508);
   // halving r quadruples n (the 1/r^2 law)
-  const auto n1 = particles_for_precision(1e-3, 0.5, 0.95), n2 = particles_for_precision(1e-3, 0.25, 0.95);
+  const auto n1 = particles_for_precision(1e-3, 0.5, 0.95),
+             n2 = particles_for_precision(1e-3, 0.25, 0.95);
   CHECK(static_cast<double>(n2) / n1 == Approx(4).epsilon(1e-3));
   // and that n reaches the target
   CHECK(relative_half_width(0.01, 9508, 0.95) <= 0.2);
@@ -36,11 +38,16 @@ TEST_CASE("particles for a relative precision: Cochran's n0 with d = r p", "[com
 TEST_CASE("convergence report lists the links and ranks that move", "[compare]") {
   using namespace cullcast::compare::test;
   TempDir a("conv-a"), b("conv-b");
-  const std::vector<std::pair<std::string, std::string>> roles = {{"R1", "source"}, {"R2", "sink"}, {"R3", "sink"}};
-  write_run(a.path, {{"R1", "R2", 1000, 100, 0.1}, {"R1", "R3", 1000, 10, 0.01}, {"R2", "R3", 1000, 1, 0.001}},
-            roles, {{"R1", 2, 30}, {"R2", 1, 10}});
-  write_run(b.path, {{"R1", "R2", 2000, 204, 0.102}, {"R1", "R3", 2000, 40, 0.02}, {"R2", "R3", 2000, 2, 0.001}},
-            roles, {{"R2", 1, 25}, {"R1", 2, 20}});
+  const std::vector<std::pair<std::string, std::string>> roles = {
+      {"R1", "source"}, {"R2", "sink"}, {"R3", "sink"}};
+  write_run(
+      a.path,
+      {{"R1", "R2", 1000, 100, 0.1}, {"R1", "R3", 1000, 10, 0.01}, {"R2", "R3", 1000, 1, 0.001}},
+      roles, {{"R1", 2, 30}, {"R2", 1, 10}});
+  write_run(
+      b.path,
+      {{"R1", "R2", 2000, 204, 0.102}, {"R1", "R3", 2000, 40, 0.02}, {"R2", "R3", 2000, 2, 0.001}},
+      roles, {{"R2", 1, 25}, {"R1", 2, 20}});
   const RunComparison c = compare_runs(read_run_outputs(a.path), read_run_outputs(b.path));
   ConvergenceOptions o;
   o.probability = 0.005;

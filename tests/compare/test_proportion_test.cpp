@@ -2,7 +2,6 @@
 // are also checked against Debian's python3-scipy by check_against_scipy.py
 // (through `cullcast compare`).
 #include <catch2/catch.hpp>
-
 #include <cmath>
 
 #include "cullcast/compare/proportion_test.hpp"

@@ -1,7 +1,6 @@
 // Kendall's tau-b (Kendall 1945, Biometrika 33:239-251). Against
 // scipy.stats.kendalltau in check_against_scipy.py; here the defining cases.
 #include <catch2/catch.hpp>
-
 #include <cmath>
 
 #include "cullcast/compare/rank_correlation.hpp"

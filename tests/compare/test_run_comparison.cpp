@@ -1,7 +1,6 @@
 // Comparison of two run folders: identity, a known change, plan changes, the
 // CSV files read back, and errors that name the file and line.
 #include <catch2/catch.hpp>
-
 #include <fstream>
 #include <sstream>
 
@@ -20,7 +19,9 @@ const std::vector<std::pair<std::string, std::string>> kRoles = {
     {"R1", "source"}, {"R2", "sink"}, {"R3", "exchange"}, {"R4", "sink"}};
 
 std::vector<FakeLink> base_links() {
-  return {{"R1", "R2", 900, 120, 0.05}, {"R1", "R3", 900, 30, 0.012}, {"R2", "R3", 900, 5, 0.002},
+  return {{"R1", "R2", 900, 120, 0.05},
+          {"R1", "R3", 900, 30, 0.012},
+          {"R2", "R3", 900, 5, 0.002},
           {"R3", "R4", 900, 60, 0.03}};
 }
 
@@ -137,18 +138,22 @@ TEST_CASE("a run without a cull plan compares links and roles only", "[compare]"
 TEST_CASE("bad run folders: errors name the folder, file, line and column", "[compare]") {
   TempDir a("bad");
   CHECK_THROWS_WITH(read_run_outputs(a.path / "missing"), Contains("not a folder"));
-  CHECK_THROWS_WITH(read_run_outputs(a.path), Contains("connectivity.csv not found (written by `cullcast connect`"));
+  CHECK_THROWS_WITH(read_run_outputs(a.path),
+                    Contains("connectivity.csv not found (written by `cullcast connect`"));
   write_run(a.path, base_links(), kRoles, {{"R1", 2, 30}});
   {
     std::ofstream c(a.path / "connectivity.csv", std::ios::app);
     c << "R2,R4,all,900,1,0.001,many,0,1,0,0,0,0,0,0,0,0\n";
   }
   CHECK_THROWS_AS(read_run_outputs(a.path), cullcast::InputError);
-  CHECK_THROWS_WITH(read_run_outputs(a.path), Contains("connectivity.csv line 10, column 'settlers': expected a number, found \"many\""));
+  CHECK_THROWS_WITH(
+      read_run_outputs(a.path),
+      Contains("connectivity.csv line 10, column 'settlers': expected a number, found \"many\""));
   write_run(a.path, base_links(), kRoles, {{"R1", 2, 30}});
   {
     std::ofstream c(a.path / "reef_metrics.csv");
     c << "reef_id,export_strength,import_strength\nR1,1,2\n";
   }
-  CHECK_THROWS_WITH(read_run_outputs(a.path), Contains("reef_metrics.csv line 1: expected a column 'role'"));
+  CHECK_THROWS_WITH(read_run_outputs(a.path),
+                    Contains("reef_metrics.csv line 1: expected a column 'role'"));
 }

@@ -1,7 +1,6 @@
 // The comparison section: the slope chart places each reef at its ranks, the
 // tables escape their text, the page is written atomically.
 #include <catch2/catch.hpp>
-
 #include <fstream>
 #include <regex>
 #include <sstream>
@@ -14,9 +13,12 @@ using Catch::Matchers::Contains;
 
 TEST_CASE("slope chart: one line per reef in either plan, y from its ranks", "[report]") {
   compare::test::TempDir a("sec-a"), b("sec-b");
-  const std::vector<std::pair<std::string, std::string>> roles = {{"R1", "source"}, {"R<2>", "sink"}, {"R3", "sink"}};
-  compare::test::write_run(a.path, {{"R1", "R<2>", 100, 10, 0.1}}, roles, {{"R1", 1, 10}, {"R<2>", 1, 5}});
-  compare::test::write_run(b.path, {{"R1", "R<2>", 100, 40, 0.4}}, {{"R1", "sink"}, {"R<2>", "sink"}, {"R3", "sink"}},
+  const std::vector<std::pair<std::string, std::string>> roles = {
+      {"R1", "source"}, {"R<2>", "sink"}, {"R3", "sink"}};
+  compare::test::write_run(a.path, {{"R1", "R<2>", 100, 10, 0.1}}, roles,
+                           {{"R1", 1, 10}, {"R<2>", 1, 5}});
+  compare::test::write_run(b.path, {{"R1", "R<2>", 100, 40, 0.4}},
+                           {{"R1", "sink"}, {"R<2>", "sink"}, {"R3", "sink"}},
                            {{"R3", 1, 10}, {"R1", 1, 5}});
   const compare::RunComparison c =
       compare::compare_runs(compare::read_run_outputs(a.path), compare::read_run_outputs(b.path));
@@ -24,9 +26,11 @@ TEST_CASE("slope chart: one line per reef in either plan, y from its ranks", "[r
   labels.name_a = "last <plan>";
   const std::string svg = report::svg_rank_slope(c, labels);
   // three reefs in either plan -> three slope groups; R1 goes 1 -> 2
-  const std::regex group("<g class='slope' data-reef='([^']*)' data-rank-a='(\\d+)' data-rank-b='(\\d+)'>");
+  const std::regex group(
+      "<g class='slope' data-reef='([^']*)' data-rank-a='(\\d+)' data-rank-b='(\\d+)'>");
   int groups = 0;
-  for (auto it = std::sregex_iterator(svg.begin(), svg.end(), group); it != std::sregex_iterator(); ++it) {
+  for (auto it = std::sregex_iterator(svg.begin(), svg.end(), group); it != std::sregex_iterator();
+       ++it) {
     ++groups;
     if ((*it)[1] == "R1") {
       CHECK((*it)[2] == "1");
@@ -35,8 +39,8 @@ TEST_CASE("slope chart: one line per reef in either plan, y from its ranks", "[r
   }
   CHECK(groups == 3);
   // y = 34 + 18 (rank - 1); "not in plan" is row 3 (the plans have at most 2 reefs)
-  CHECK_THAT(svg, Contains("<line x1='150' y1='34' x2='370' y2='52'"));   // R1: 1 -> 2
-  CHECK_THAT(svg, Contains("<line x1='150' y1='70' x2='370' y2='34'"));   // R3: out -> 1
+  CHECK_THAT(svg, Contains("<line x1='150' y1='34' x2='370' y2='52'"));  // R1: 1 -> 2
+  CHECK_THAT(svg, Contains("<line x1='150' y1='70' x2='370' y2='34'"));  // R3: out -> 1
   CHECK_THAT(svg, Contains("R&lt;2&gt;"));
   CHECK(svg.find("R<2>") == std::string::npos);
   const std::string html = report::render_comparison_section(c, labels);

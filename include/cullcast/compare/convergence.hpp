@@ -46,12 +46,12 @@ struct RankShift {
 };
 
 struct ConvergenceReport {
-  int links_considered = 0;          // fraction >= probability in either run
-  std::vector<MovingLink> moving;    // of those, relative change > relative_precision; largest first
+  int links_considered = 0;        // fraction >= probability in either run
+  std::vector<MovingLink> moving;  // of those, relative change > relative_precision; largest first
   std::vector<RankShift> rank_shifts;
-  std::int64_t particles_needed = 0; // per source, all events together
-  std::int64_t particles_b = 0;      // per source in the larger run (largest over sources)
-  double precision_b = 0;            // relative half-width at `probability` with particles_b
+  std::int64_t particles_needed = 0;  // per source, all events together
+  std::int64_t particles_b = 0;       // per source in the larger run (largest over sources)
+  double precision_b = 0;             // relative half-width at `probability` with particles_b
 };
 
 // `c` compares the run (A) with its rerun at twice the larvae (B).

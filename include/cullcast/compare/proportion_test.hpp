@@ -21,8 +21,7 @@ struct ProportionTest {
 };
 
 // x = successes (settling particles), n = trials (released particles); x <= n.
-ProportionTest two_proportion_z(std::int64_t x1, std::int64_t n1, std::int64_t x2,
-                                std::int64_t n2);
+ProportionTest two_proportion_z(std::int64_t x1, std::int64_t n1, std::int64_t x2, std::int64_t n2);
 
 // Two-sided tail probability of the standard normal, 2 (1 - Phi(|z|)).
 double two_sided_normal_p(double z);

@@ -13,7 +13,7 @@ struct ComparisonLabels {
   std::string heading = "Comparison";  // e.g. "What changed since the last plan"
   std::string name_a = "A";            // short names of the two runs
   std::string name_b = "B";
-  int max_links = 15;                  // rows in the table of changed links
+  int max_links = 15;  // rows in the table of changed links
 };
 
 // Slope chart: each reef in either plan, its rank in A (left) joined to its

@@ -12,10 +12,12 @@
 namespace cullcast::study {
 
 struct SweepVariant {
-  std::string name;                    // folder name under the outputs folder ([A-Za-z0-9._-])
-  std::vector<std::string> overrides;  // "section.key=value", applied after the command line's --set
-  std::string where;                   // "file:line:column" of its definition, for messages
-  std::vector<std::string> locations;  // "file:line:column" of each override, when written in the file
+  std::string name;  // folder name under the outputs folder ([A-Za-z0-9._-])
+  std::vector<std::string>
+      overrides;      // "section.key=value", applied after the command line's --set
+  std::string where;  // "file:line:column" of its definition, for messages
+  std::vector<std::string>
+      locations;  // "file:line:column" of each override, when written in the file
 };
 
 struct SweepPlan {
