@@ -80,6 +80,9 @@ int run(int argc, const char* const* argv, std::ostream& out, std::ostream& err)
   add_connect_command(app, ctx);
   add_prioritise_command(app, ctx);
   add_brief_command(app, ctx);
+  add_sweep_command(app, ctx);
+  add_compare_command(app, ctx);
+  add_converge_command(app, ctx);
   add_hydro_check_command(app, ctx);
   add_template_command(app, ctx);
   add_demo_data_command(app, ctx);

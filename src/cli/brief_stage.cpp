@@ -10,11 +10,13 @@
 #include <sstream>
 
 #include "cullcast/base/error.hpp"
+#include "cullcast/compare/run_comparison.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/network/connectivity_matrix.hpp"
 #include "cullcast/network/link_ensemble.hpp"
 #include "cullcast/reefs/aggregations.hpp"
 #include "cullcast/report/briefing_layers.hpp"
+#include "cullcast/report/comparison_section.hpp"
 #include "cullcast/report/sha256.hpp"
 
 namespace cullcast::cli {
@@ -331,12 +333,26 @@ report::BriefingData gather_briefing(const study::Study& study, std::vector<std:
   return d;
 }
 
-BriefSummary run_brief_stage(const CliContext& ctx, const study::Study& study) {
+BriefSummary run_brief_stage(const CliContext& ctx, const study::Study& study,
+                             const fs::path& previous) {
   BriefSummary summary;
   report::BriefingData d = gather_briefing(study, summary.warnings);
   d.warnings = summary.warnings;
   const fs::path dir = study.outputs.dir;
   fs::create_directories(dir);
+  if (!previous.empty()) {
+    const compare::RunOutputs last = compare::read_run_outputs(previous);
+    const compare::RunComparison c = compare::compare_runs(last, compare::read_run_outputs(dir));
+    report::ComparisonLabels labels;
+    labels.heading = "What changed since the last plan";
+    labels.name_a = "last plan";
+    labels.name_b = "this plan";
+    d.opening_html = report::render_comparison_section(c, labels);
+    for (const auto& p : compare::write_comparison_csv(dir, "changes_since_previous", c)) {
+      summary.outputs.push_back(p);
+    }
+    if (!ctx.quiet) ctx.out << "Since the last plan (" << previous.string() << "):\n" << compare::comparison_summary(c);
+  }
   report::write_briefing_gpkg(dir / "briefing.gpkg", d);
   summary.outputs.push_back(dir / "briefing.gpkg");
   if (!d.land.empty()) {

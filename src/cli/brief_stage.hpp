@@ -22,6 +22,10 @@ struct BriefSummary {
 // naming the missing file and the command to run first.
 report::BriefingData gather_briefing(const study::Study& study, std::vector<std::string>& warnings);
 
-BriefSummary run_brief_stage(const CliContext& ctx, const study::Study& study);
+// With `previous` (the outputs folder of the last plan), the page opens with
+// "What changed since the last plan" and changes_since_previous_*.csv are
+// written beside it.
+BriefSummary run_brief_stage(const CliContext& ctx, const study::Study& study,
+                             const std::filesystem::path& previous = {});
 
 }  // namespace cullcast::cli

@@ -48,6 +48,9 @@ void add_brief_command(CLI::App& app, CliContext& ctx);
 void add_hydro_check_command(CLI::App& app, CliContext& ctx);
 void add_template_command(CLI::App& app, CliContext& ctx);
 void add_demo_data_command(CLI::App& app, CliContext& ctx);
+void add_sweep_command(CLI::App& app, CliContext& ctx);
+void add_compare_command(CLI::App& app, CliContext& ctx);
+void add_converge_command(CLI::App& app, CliContext& ctx);
 
 // Entry point used by main() and by the command-line tests.
 int run(int argc, const char* const* argv, std::ostream& out, std::ostream& err);

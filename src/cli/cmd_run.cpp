@@ -1,8 +1,5 @@
 #include "cli_context.hpp"
-#include "brief_stage.hpp"
-#include "connect_stage.hpp"
-#include "disperse_stage.hpp"
-#include "prioritise_stage.hpp"
+#include "pipeline.hpp"
 
 namespace cullcast::cli {
 
@@ -11,17 +8,21 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
   cmd->footer(
       "Stages: disperse (drift) -> connect (connectivity) -> prioritise (when the scenario\n"
       "has a [cull] section) -> brief (briefing.html and GIS layers).\n"
+      "With --previous DIR the briefing opens with what changed since the plan in DIR\n"
+      "(DIR may be the outputs folder itself: its last plan is kept in previous-plan/).\n"
       "Example:\n  cullcast run scenarios/lantern-reach.toml --threads 2");
   auto scenario = std::make_shared<std::string>();
+  auto previous = std::make_shared<std::string>();
   cmd->add_option("SCENARIO", *scenario, "Scenario file (TOML)")->required();
   add_checkpoint_options(*cmd, ctx);
-  cmd->callback([&ctx, scenario] {
-    ctx.action = [&ctx, scenario]() -> int {
+  cmd->add_option("--previous", *previous, "Outputs folder of the last plan, to compare with")
+      ->type_name("DIR");
+  cmd->callback([&ctx, scenario, previous] {
+    ctx.action = [&ctx, scenario, previous]() -> int {
       const study::Study study = ctx.load_for_outputs(*scenario, "run");
-      run_disperse_stage(ctx, study);
-      run_connect_stage(ctx, study);
-      if (study.cull.present) run_prioritise_stage(ctx, study);
-      run_brief_stage(ctx, study);
+      PipelineOptions options;
+      if (!previous->empty()) options.previous = keep_previous(*previous, study.outputs.dir);
+      run_pipeline(ctx, study, options);
       if (!ctx.quiet) {
         ctx.out << "Outputs are in " << study.outputs.dir.string() << ".\n"
                 << "Outputs are decision support with stated uncertainty; field work follows "

@@ -64,6 +64,8 @@ code, .mono { font-family: "DejaVu Sans Mono", monospace; font-size: 12px; word-
 
 }  // namespace
 
+const char* briefing_css() { return kCss; }
+
 std::string render_briefing_html(const BriefingData& d) {
   std::ostringstream s;
   const std::size_t n = d.reefs.size();
@@ -81,6 +83,7 @@ std::string render_briefing_html(const BriefingData& d) {
   s << "<header class='top'><h1>" << html_escape(d.title) << "</h1><p class='sub'>Briefing generated "
     << html_escape(d.generated_utc) << " by cullcast " << html_escape(d.version) << " \u00b7 seed " << d.seed
     << "</p></header>\n";
+  s << d.opening_html;
   if (!d.description.empty()) s << "<p>" << html_escape(d.description) << "</p>\n";
   s << "<div class='caution'><b>Caution.</b> These outputs are decision support with stated uncertainty, "
        "not a prediction of where starfish will be. Field work follows local dive-safety codes, permits and "

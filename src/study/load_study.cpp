@@ -19,7 +19,8 @@ namespace {
 
 const std::vector<std::string> kSections = {"study",  "currents", "reefs",   "spawning",
                                             "larvae", "motion",   "outputs", "connectivity",
-                                            "tracks", "backward", "cull"};
+                                            "tracks", "backward", "cull",
+                                            "sweep",  "variant"};  // the last two: sweep_plan.cpp
 
 struct Context {
   std::string file;  // as shown in messages
@@ -465,7 +466,7 @@ void check_top_level(const toml::table& root, const Context& ctx) {
     throw InputError(location_text(ctx.file, key.source()) + ": unknown section [" + name + "]" +
                      (hint.empty() ? "" : " (did you mean [" + hint + "]?)") +
                      "; known sections: study, currents, reefs, spawning, larvae, motion, "
-                     "outputs, connectivity, tracks, backward, cull");
+                     "outputs, connectivity, tracks, backward, cull, sweep, variant");
   }
 }
 

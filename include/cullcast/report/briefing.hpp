@@ -87,6 +87,9 @@ struct BriefingData {
   double priority_threshold = 0;       // priority > threshold marks a priority reef
   int max_links = 25;                  // strongest links drawn on the map
   std::vector<std::string> warnings;
+  // HTML placed first, right under the title (e.g. "What changed since the
+  // last plan", comparison_section.hpp); empty = none. Already escaped.
+  std::string opening_html;
 };
 
 // --- pieces, public for tests ------------------------------------------------
@@ -121,6 +124,8 @@ std::string svg_matrix(const BriefingData& d);          // heat map, reefs order
 std::vector<int> position_order(const std::vector<reefs::Reef>& reefs);
 
 std::string render_briefing_html(const BriefingData& d);
+// The page's style sheet, for other pages in the same style.
+const char* briefing_css();
 // Writes the page atomically.
 void write_briefing_html(const std::filesystem::path& file, const BriefingData& d);
 
