@@ -58,7 +58,7 @@ void write_connectivity_csv(const fs::path& path, const Connectivity& c, const E
         out << csv_text(c.source_ids[i]) << ',' << csv_text(c.sink_ids[p.col()]) << ',' << e
             << ',' << m.released[i] << ',' << csv_number(w.value()) << ','
             << csv_number(p.value()) << ',' << csv_number(n.value()) << ','
-            << csv_number(ci.low) << ',' << csv_number(ci.high) << ',' << blanks << "\n";
+            << csv_number(ci.low) << ',' << csv_number(ci.high) << blanks << "\n";
       }
     }
   }

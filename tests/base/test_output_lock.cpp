@@ -127,7 +127,7 @@ TEST_CASE("a pid reused by a later process does not keep a lock alive") {
   CHECK_NOTHROW(OutputLock::acquire(dir, "disperse"));
 }
 
-TEST_CASE("a lock from another host is honoured; a garbled lock is replaced") {
+TEST_CASE("a lock from another host is honoured, and a garbled lock is replaced") {
   const fs::path dir = scratch("remote");
   write_lock(dir, 12345, "another-host.invalid");
   CHECK_THROWS_WITH(OutputLock::acquire(dir, "run"), Contains("another-host.invalid"));

@@ -74,7 +74,7 @@ dir = "out"
 
 }  // namespace
 
-TEST_CASE("a second run on a locked output folder is refused; a stale lock is taken over") {
+TEST_CASE("a second run on a locked output folder is refused, and a stale lock is taken over") {
   const Study s;
   const pid_t child = ::fork();
   if (child == 0) {
@@ -100,7 +100,7 @@ TEST_CASE("a second run on a locked output folder is refused; a stale lock is ta
   CHECK_FALSE(fs::exists(s.out / cullcast::OutputLock::kFileName));  // released at the end
 }
 
-TEST_CASE("a drift over --max-memory is refused before it starts; a bad size is a usage error") {
+TEST_CASE("a drift over --max-memory is refused before it starts, and a bad size is a usage error") {
   const Study s;
   CHECK(s.run("--max-memory 1KiB disperse") == 1);
   CHECK_THAT(s.err(), Contains("--max-memory allows 1.00 KiB") && Contains("100 particles"));

@@ -114,7 +114,7 @@ TEST_CASE("greedy stays within its stated bound of the optimum") {
   CHECK(checked > 0);
 }
 
-TEST_CASE("more budget never averts less; zero budget and zero effort avert nothing") {
+TEST_CASE("more budget never averts less, zero budget and zero effort avert nothing") {
   CullSettings s = small();
   s.home_lon = 149.9;
   s.home_lat = -20.1;

@@ -128,7 +128,7 @@ TEST_CASE("random walk: per-axis variance grows as 2·Kh·t") {
   CHECK(std::fabs(sx / n) < 4 * std::sqrt(expected / n));
 }
 
-TEST_CASE("constant mortality: weights decay as exp(−m·t); random deaths follow it binomially") {
+TEST_CASE("constant mortality: weights decay as exp(−m·t), random deaths follow it binomially") {
   auto still = [](double, double, double) { return std::array<double, 2>{0.0, 0.0}; };
   StepSettings s;
   s.dt_s = 3600;

@@ -145,7 +145,7 @@ TEST_CASE("3-D: a downward velocity carries larvae by w·t") {
   CHECK(p.depth_m[0] == Approx(5.0 + 0.001 * 6000).epsilon(1e-6));
 }
 
-TEST_CASE("band: the walk stays inside the band; an age table moves larvae to it") {
+TEST_CASE("band: the walk stays inside the band, and an age table moves larvae to it") {
   study::MotionSettings m;
   m.depth = "band";
   m.band_top_m = 3;

@@ -97,7 +97,7 @@ TEST_CASE("reef_at on the demo layer agrees with GEOS Contains", "[reefs][lookup
   CHECK(hits > 500);
 }
 
-TEST_CASE("overlaps go to the lowest index; off-grid and NaN give -1", "[reefs][lookup]") {
+TEST_CASE("overlaps go to the lowest index, off-grid and NaN give -1", "[reefs][lookup]") {
   std::vector<Reef> reefs;
   reefs.push_back(make_reef("low", {Polygon{ring({{150.0, -20.0}, {150.02, -20.0}, {150.02, -19.98}, {150.0, -19.98}}), {}}}));
   reefs.push_back(make_reef("high", {Polygon{ring({{150.01, -20.0}, {150.03, -20.0}, {150.03, -19.98}, {150.01, -19.98}}), {}}}));
