@@ -172,8 +172,17 @@ void check_time_coverage(const study::Study& study, const currents::CurrentField
 
 DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                        const reefs::ReefSet& reefs, const std::vector<reefs::ReleaseSource>& sources,
-                       const ProgressFn& progress) {
+                       const ProgressFn& progress, const DriftShare& share) {
   check_time_coverage(study, field);
+  if (!share.batches.empty() && share.batches.size() != study.spawning.size()) {
+    throw std::invalid_argument("run_drift: a share of " + std::to_string(share.batches.size()) +
+                                " events for a study of " + std::to_string(study.spawning.size()));
+  }
+  if (!share.batches.empty() && study.tracks.enabled) {
+    throw InputError(study.scenario_file.string() +
+                     ": [tracks] is written by single-process runs only; run without mpirun "
+                     "(or with -np 1), or switch [tracks] off");
+  }
   DriftSummary summary;
   const auto& calendar = field.calendar();
   const LarvalClock clock(study.larvae);
@@ -194,11 +203,13 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                           (extras.depth.moves() || extras.kh_varies() || extras.environment.any());
   summary.physics = use_extras ? physics : " 2-D, constant Kh";
 
-  fs::create_directories(study.outputs.dir);
   summary.records_netcdf = study.outputs.dir / "settlement.nc";
   if (study.outputs.settlement_csv) summary.records_csv = study.outputs.dir / "settlement.csv";
-  SettlementLog log(summary.records_netcdf, summary.records_csv,
-                    tables_for(study, field, reefs, sources));
+  std::optional<SettlementLog> log;
+  if (share.write_outputs) {
+    fs::create_directories(study.outputs.dir);
+    log.emplace(summary.records_netcdf, summary.records_csv, tables_for(study, field, reefs, sources));
+  }
   std::unique_ptr<TrackWriter> tracks;
   if (study.tracks.enabled) {
     summary.tracks_netcdf = study.outputs.dir / "tracks.nc";
@@ -209,108 +220,46 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                                            tables_for(study, field, reefs, sources).attributes);
   }
 
-  const auto stage_start = Clock::now();
-  std::vector<std::uint8_t> settled_now;
-  for (std::size_t e = 0; e < study.spawning.size(); ++e) {
+  // Records go straight to the log unless an exchange merges them first.
+  const bool streaming = !share.exchange;
+  // Writes one event's (merged) outcome and adds it to the summary.
+  auto finish_event = [&](std::size_t e, const EventOutcome& out, double seconds) {
     const auto& event = study.spawning[e];
-    const auto event_start = Clock::now();
-    step.event = static_cast<std::uint32_t>(e);
-    step.event_start_s = calendar.to_seconds(event.start);
-    ParticleSet p = particles_from(reefs::plan_release(reefs, sources, event, step.event,
-                                                       study.reefs, study.study.seed));
-    if (extras.environment.any()) p.enable_development();
-    if (tracks) tracks->begin_event(step.event, p);
-    std::uint64_t off_water = 0;
-    for (std::size_t i = 0; i < p.size(); ++i) {
-      if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) ++off_water;
+    if (out.fates.size() != sources.size()) {
+      throw std::logic_error("run_drift: an exchange left fates of " + std::to_string(out.fates.size()) +
+                             " sources, expected " + std::to_string(sources.size()));
     }
-    if (off_water > 0) {
+    std::int64_t released_here = 0;
+    for (const auto& f : out.fates) released_here += f.released;
+    if (out.off_water > 0) {
       std::ostringstream w;
-      w << event.label << ": " << off_water << " of " << p.size()
+      w << event.label << ": " << out.off_water << " of " << released_here
         << " release points lie on land or outside the currents grid (they cannot move)";
       summary.warnings.push_back(w.str());
     }
-
-    // The nominal lifetime; with temperature-dependent development larvae in
-    // cool water live longer in calendar time, so stepping continues until
-    // every particle has its fate or the currents end.
-    auto steps = static_cast<std::uint32_t>(std::ceil(event_length_s(event, study.larvae) / step.dt_s - 1e-9));
-    if (extras.environment.any()) {
-      const double room = field.time_end_s() - step.event_start_s;
-      steps = std::max(steps, static_cast<std::uint32_t>(std::floor(room / step.dt_s + 1e-9)));
+    if (log && !streaming) {
+      for (const auto& r : out.records) log->add(r);
     }
     EventSummary es;
     es.label = event.label;
-    std::uint64_t alive = 0, settled = 0, released = 0;
-    auto last_report = Clock::now();
-    for (std::uint32_t k = 0; k < steps; ++k) {
-      const double t0 = step.event_start_s + k * step.dt_s;
-      field.prepare(t0, t0 + step.dt_s);
-      const StepTally tally =
-          use_extras ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
-                     : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
-      if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);
-      es.particle_steps += tally.particle_steps;
-      summary.land_contacts += tally.land_contacts;
-      const double spacing = field.grid().min_spacing_m;
-      if (spacing > 0) {
-        summary.max_courant = std::max(summary.max_courant, tally.max_speed_m_s * step.dt_s / spacing);
-      }
-      alive += tally.released;
-      released += tally.released;
-      alive -= tally.settled + tally.died + tally.stranded + tally.lost;
-      settled += tally.settled;
-      if (tally.settled > 0) {
-        for (std::size_t i = 0; i < p.size(); ++i) {
-          if (!settled_now[i]) continue;
-          const double release = step.event_start_s + p.release_s[i];
-          const double when = t0 + step.dt_s;
-          log.add({step.event, p.source[i], p.reef[i], release, when, when - release, p.weight[i]});
-        }
-      }
-      if (progress && (seconds_since(last_report) > 0.25 || k + 1 == steps)) {
-        last_report = Clock::now();
-        DriftProgress dp;
-        dp.event_index = e;
-        dp.event_count = study.spawning.size();
-        dp.event_label = event.label;
-        dp.event_fraction = static_cast<double>(k + 1) / steps;
-        dp.model_time_s = t0 + step.dt_s;
-        dp.alive = alive;
-        dp.settled = settled;
-        dp.elapsed_s = seconds_since(stage_start);
-        const double busy = seconds_since(stage_start);
-        dp.particle_steps_per_s = busy > 0 ? (summary.particle_steps + es.particle_steps) / busy : 0;
-        progress(dp);
-      }
-      if (alive == 0 && released == p.size()) break;  // every particle has its final fate
-    }
-    // Final fates per source.
-    std::vector<FateCounts> per_source(sources.size());
-    for (std::size_t i = 0; i < p.size(); ++i) {
-      FateCounts& c = per_source[p.source[i]];
-      ++c.released;
-      switch (p.fate[i]) {
-        case Fate::settled: ++c.settled; c.settled_weight += p.weight[i]; break;
-        case Fate::died: ++c.died; break;
-        case Fate::stranded: ++c.stranded; break;
-        case Fate::lost: ++c.lost; break;
-        case Fate::waiting:
-        case Fate::drifting: ++c.drifting; break;
-      }
+    es.particle_steps = out.particle_steps;
+    es.seconds = seconds;
+    summary.land_contacts += out.land_contacts;
+    const double spacing = field.grid().min_spacing_m;
+    if (spacing > 0) {
+      summary.max_courant = std::max(summary.max_courant, out.max_speed_m_s * step.dt_s / spacing);
     }
     for (std::size_t s = 0; s < sources.size(); ++s) {
-      log.set_fates(step.event, static_cast<std::uint32_t>(s), per_source[s]);
+      if (log) log->set_fates(static_cast<std::uint32_t>(e), static_cast<std::uint32_t>(s), out.fates[s]);
       FateCounts& c = es.fates;
-      c.released += per_source[s].released;
-      c.settled += per_source[s].settled;
-      c.died += per_source[s].died;
-      c.stranded += per_source[s].stranded;
-      c.lost += per_source[s].lost;
-      c.drifting += per_source[s].drifting;
-      c.settled_weight += per_source[s].settled_weight;
+      c.released += out.fates[s].released;
+      c.settled += out.fates[s].settled;
+      c.died += out.fates[s].died;
+      c.stranded += out.fates[s].stranded;
+      c.lost += out.fates[s].lost;
+      c.drifting += out.fates[s].drifting;
+      c.settled_weight += out.fates[s].settled_weight;
     }
-    es.seconds = seconds_since(event_start);
     summary.particle_steps += es.particle_steps;
     FateCounts& t = summary.totals;
     t.released += es.fates.released;
@@ -328,6 +277,120 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     }
     t.settled_weight += es.fates.settled_weight;
     summary.events.push_back(es);
+  };
+
+  const auto stage_start = Clock::now();
+  std::uint64_t stepped = 0;               // particle-steps of this process before this event
+  std::vector<EventOutcome> held;          // with an exchange: outcomes until every event is drifted
+  std::vector<double> held_seconds;
+  std::vector<std::uint8_t> settled_now;
+  for (std::size_t e = 0; e < study.spawning.size(); ++e) {
+    const auto& event = study.spawning[e];
+    const auto event_start = Clock::now();
+    step.event = static_cast<std::uint32_t>(e);
+    step.event_start_s = calendar.to_seconds(event.start);
+    EventOutcome out;
+    out.fates.assign(sources.size(), FateCounts{});
+    const std::vector<std::uint32_t> mine = share.sources_of(e, sources.size());
+    if (mine.empty()) {  // nothing of this event here: no currents read for it
+      if (streaming) {
+        finish_event(e, out, 0);
+      } else {
+        held.push_back(std::move(out));
+        held_seconds.push_back(0);
+      }
+      continue;
+    }
+    ParticleSet p = particles_from(reefs::plan_release(reefs, sources, event, step.event,
+                                                       study.reefs, study.study.seed, mine));
+    if (extras.environment.any()) p.enable_development();
+    if (tracks) tracks->begin_event(step.event, p);
+    for (std::size_t i = 0; i < p.size(); ++i) {
+      if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) ++out.off_water;
+    }
+
+    // The nominal lifetime; with temperature-dependent development larvae in
+    // cool water live longer in calendar time, so stepping continues until
+    // every particle has its fate or the currents end.
+    auto steps = static_cast<std::uint32_t>(std::ceil(event_length_s(event, study.larvae) / step.dt_s - 1e-9));
+    if (extras.environment.any()) {
+      const double room = field.time_end_s() - step.event_start_s;
+      steps = std::max(steps, static_cast<std::uint32_t>(std::floor(room / step.dt_s + 1e-9)));
+    }
+    std::uint64_t alive = 0, settled = 0, released = 0;
+    auto last_report = Clock::now();
+    for (std::uint32_t k = 0; k < steps; ++k) {
+      const double t0 = step.event_start_s + k * step.dt_s;
+      field.prepare(t0, t0 + step.dt_s);
+      const StepTally tally =
+          use_extras ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
+                     : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
+      if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);
+      out.particle_steps += tally.particle_steps;
+      out.land_contacts += tally.land_contacts;
+      out.max_speed_m_s = std::max(out.max_speed_m_s, tally.max_speed_m_s);
+      alive += tally.released;
+      released += tally.released;
+      alive -= tally.settled + tally.died + tally.stranded + tally.lost;
+      settled += tally.settled;
+      if (tally.settled > 0) {
+        for (std::size_t i = 0; i < p.size(); ++i) {
+          if (!settled_now[i]) continue;
+          const double release = step.event_start_s + p.release_s[i];
+          const double when = t0 + step.dt_s;
+          const SettlementRecord record{step.event, p.source[i], p.reef[i], release, when, when - release, p.weight[i]};
+          if (streaming) {
+            if (log) log->add(record);
+          } else {
+            out.records.push_back(record);
+            out.record_keys.push_back((std::uint64_t{k} << 32) | p.index[i]);
+          }
+        }
+      }
+      if (progress && (seconds_since(last_report) > 0.25 || k + 1 == steps)) {
+        last_report = Clock::now();
+        DriftProgress dp;
+        dp.event_index = e;
+        dp.event_count = study.spawning.size();
+        dp.event_label = event.label;
+        dp.event_fraction = static_cast<double>(k + 1) / steps;
+        dp.model_time_s = t0 + step.dt_s;
+        dp.alive = alive;
+        dp.settled = settled;
+        dp.elapsed_s = seconds_since(stage_start);
+        const double busy = seconds_since(stage_start);
+        dp.particle_steps_per_s = busy > 0 ? (stepped + out.particle_steps) / busy : 0;
+        progress(dp);
+      }
+      if (alive == 0 && released == p.size()) break;  // every particle has its final fate
+    }
+    // Final fates per source.
+    for (std::size_t i = 0; i < p.size(); ++i) {
+      FateCounts& c = out.fates[p.source[i]];
+      ++c.released;
+      switch (p.fate[i]) {
+        case Fate::settled: ++c.settled; c.settled_weight += p.weight[i]; break;
+        case Fate::died: ++c.died; break;
+        case Fate::stranded: ++c.stranded; break;
+        case Fate::lost: ++c.lost; break;
+        case Fate::waiting:
+        case Fate::drifting: ++c.drifting; break;
+      }
+    }
+    stepped += out.particle_steps;
+    if (streaming) {
+      finish_event(e, out, seconds_since(event_start));
+    } else {
+      held.push_back(std::move(out));
+      held_seconds.push_back(seconds_since(event_start));
+    }
+  }
+  if (!streaming) {
+    for (std::size_t e = 0; e < held.size(); ++e) {
+      share.exchange(static_cast<std::uint32_t>(e), held[e]);
+      finish_event(e, held[e], held_seconds[e]);
+      held[e] = EventOutcome{};  // free the records
+    }
   }
   summary.seconds = seconds_since(stage_start);
   summary.particle_steps_per_s =
@@ -339,8 +402,10 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       << study.motion.dt_minutes / summary.max_courant;
     summary.warnings.push_back(w.str());
   }
-  log.commit();
-  summary.records = log.records_written();
+  if (log) {
+    log->commit();
+    summary.records = log->records_written();
+  }
   if (tracks) {
     tracks->commit();
     summary.track_samples = tracks->samples();

@@ -8,6 +8,7 @@
 #include <vector>
 
 #include "cullcast/currents/current_field.hpp"
+#include "cullcast/drift/drift_share.hpp"
 #include "cullcast/drift/settlement_log.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
@@ -58,9 +59,13 @@ using ProgressFn = std::function<void(const DriftProgress&)>;
 // lifetime; throws InputError naming the event and the span otherwise.
 void check_time_coverage(const study::Study& study, const currents::CurrentField& field);
 
+// `share` (drift_share.hpp): the batches this process drifts and how its
+// results meet those of the other processes; by default every batch, written
+// here. With a share, the summary counts what this process wrote (the merged
+// run where write_outputs is true); [tracks] needs the whole run in one process.
 DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                        const reefs::ReefSet& reefs, const std::vector<reefs::ReleaseSource>& sources,
-                       const ProgressFn& progress = {});
+                       const ProgressFn& progress = {}, const DriftShare& share = {});
 
 // Backward drift from [backward] sink (backward_drift.hpp): writes
 // <outputs>/backward_origins.csv (reef_id, weight, share) and returns its path.
