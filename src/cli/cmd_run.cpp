@@ -17,7 +17,7 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
   cmd->callback([&ctx, scenario] {
     ctx.action = [&ctx, scenario]() -> int {
       const study::Study study = ctx.load(*scenario);
-      run_disperse_stage(ctx, study);
+      if (!run_disperse_stage(ctx, study)) return 0;  // an MPI helper rank: rank 0 goes on
       run_connect_stage(ctx, study);
       if (study.cull.present) run_prioritise_stage(ctx, study);
       run_brief_stage(ctx, study);

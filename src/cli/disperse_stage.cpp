@@ -3,11 +3,14 @@
 #include <omp.h>
 
 #include <cstdio>
+#include <optional>
 #include <ostream>
 
+#include "cullcast/base/error.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
+#include "distributed_drift.hpp"
 #include "progress_display.hpp"
 
 namespace cullcast::cli {
@@ -50,25 +53,42 @@ void print_summary(std::ostream& out, const drift::DriftSummary& s) {
 
 }  // namespace
 
-drift::DriftSummary run_disperse_stage(const CliContext& ctx, const study::Study& study) {
-  if (!ctx.quiet) {
-    ctx.out << "Study \"" << study.study.name << "\" (seed " << study.study.seed << ", "
-            << study.motion.scheme << ", dt " << study.motion.dt_minutes << " min, Kh "
-            << study.motion.kh_m2_s << " m2/s, " << omp_get_max_threads() << " threads)\n";
+std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, const study::Study& study) {
+  DriftTeam team;  // one process, or the ranks of an MPI job (distributed_drift.hpp)
+  const bool root = team.root();
+  std::optional<currents::CurrentField> field;
+  std::optional<reefs::ReefSet> reef_set;
+  drift::DriftSummary summary;
+  try {
+    if (!ctx.quiet && root) {
+      ctx.out << "Study \"" << study.study.name << "\" (seed " << study.study.seed << ", "
+              << study.motion.scheme << ", dt " << study.motion.dt_minutes << " min, Kh "
+              << study.motion.kh_m2_s << " m2/s, " << omp_get_max_threads() << " threads)\n";
+    }
+    field.emplace(currents::CurrentField::open(study.currents));
+    reef_set.emplace(reefs::ReefSet::load(study.reefs));
+    const auto sources = reefs::release_sources(*reef_set, study);
+    if (!ctx.quiet && root) {
+      ctx.out << "  " << study.currents.files.size() << " currents file(s), "
+              << field->frame_count() << " frames; " << reef_set->size() << " reefs, "
+              << sources.size() << " release sources\n";
+      if (team.size() > 1) ctx.out << "  " << team.describe(study, sources.size()) << "\n";
+    }
+    ProgressDisplay display(ctx.err, root && ctx.show_progress(), field->calendar());
+    summary = drift::run_drift(study, *field, *reef_set, sources,
+                               [&](const drift::DriftProgress& p) { display(p); },
+                               team.share(study, sources.size()));
+    display.finish();
+  } catch (const InputError& e) {
+    if (team.size() == 1) throw;
+    team.fail(std::string("error: ") + e.what(), static_cast<int>(ExitCode::bad_input));
+  } catch (const std::exception& e) {
+    if (team.size() == 1) throw;
+    team.fail(std::string("failed: ") + e.what(), static_cast<int>(ExitCode::runtime_failure));
   }
-  currents::CurrentField field = currents::CurrentField::open(study.currents);
-  const reefs::ReefSet reef_set = reefs::ReefSet::load(study.reefs);
-  const auto sources = reefs::release_sources(reef_set, study);
-  if (!ctx.quiet) {
-    ctx.out << "  " << study.currents.files.size() << " currents file(s), "
-            << field.frame_count() << " frames; " << reef_set.size() << " reefs, "
-            << sources.size() << " release sources\n";
-  }
-  ProgressDisplay display(ctx.err, ctx.show_progress(), field.calendar());
-  drift::DriftSummary summary =
-      drift::run_drift(study, field, reef_set, sources, [&](const drift::DriftProgress& p) { display(p); });
-  display.finish();
-  if (!study.backward.sink.empty()) summary.backward_csv = drift::run_backward(study, field, reef_set);
+  team.finish();
+  if (!root) return std::nullopt;  // rank 0 wrote the outputs and runs the later stages
+  if (!study.backward.sink.empty()) summary.backward_csv = drift::run_backward(study, *field, *reef_set);
   for (const auto& w : summary.warnings) ctx.err << "cullcast: warning: " << w << "\n";
   if (!ctx.quiet) print_summary(ctx.out, summary);
   return summary;
