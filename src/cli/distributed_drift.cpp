@@ -1,6 +1,7 @@
 #include "distributed_drift.hpp"
 
 #include <omp.h>
+#include <sched.h>
 
 #include <algorithm>
 #include <cstdint>
@@ -175,6 +176,17 @@ std::string DriftTeam::describe(const study::Study& study, std::size_t source_co
     }
   }
   return o.str();
+}
+
+std::string DriftTeam::binding_warning() const {
+  cpu_set_t cpus;
+  CPU_ZERO(&cpus);
+  if (size_ == 1 || sched_getaffinity(0, sizeof cpus, &cpus) != 0) return {};
+  const int cores = CPU_COUNT(&cpus), threads = omp_get_max_threads();
+  if (cores >= threads) return {};
+  return "rank " + std::to_string(rank_) + " runs " + std::to_string(threads) + " threads on " +
+         std::to_string(cores) + " core(s) (the launcher's binding): start it with mpirun --bind-to none, "
+         "or --map-by slot:PE=" + std::to_string(threads) + ", or set OMP_NUM_THREADS=" + std::to_string(cores);
 }
 
 void DriftTeam::fail(const std::string& message, int exit_code) const {

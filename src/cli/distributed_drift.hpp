@@ -38,6 +38,9 @@ class DriftTeam {
   drift::DriftShare share(const study::Study& study, std::size_t source_count) const;
   // One line for the root's summary: how the batches were split.
   std::string describe(const study::Study& study, std::size_t source_count) const;
+  // Empty, or why this rank's threads share too few cores (mpirun binds each
+  // rank to one core by default, whatever OMP_NUM_THREADS says).
+  std::string binding_warning() const;
   // Prints "cullcast: rank R of N: <message>" and stops every rank of the job
   // with `exit_code`; with one process, only throws.
   [[noreturn]] void fail(const std::string& message, int exit_code) const;

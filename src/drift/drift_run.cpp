@@ -206,10 +206,16 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
   summary.records_netcdf = study.outputs.dir / "settlement.nc";
   if (study.outputs.settlement_csv) summary.records_csv = study.outputs.dir / "settlement.csv";
   std::optional<SettlementLog> log;
-  if (share.write_outputs) {
-    fs::create_directories(study.outputs.dir);
+  auto open_log = [&] {
+    if (!share.write_outputs) return;
     log.emplace(summary.records_netcdf, summary.records_csv, tables_for(study, field, reefs, sources));
-  }
+  };
+  if (share.write_outputs) fs::create_directories(study.outputs.dir);
+  // Records go straight to the log unless an exchange merges them first; then
+  // the log opens only once this process's drift is done (a process that
+  // fails earlier leaves not even temporary files).
+  const bool streaming = !share.exchange;
+  if (streaming) open_log();
   std::unique_ptr<TrackWriter> tracks;
   if (study.tracks.enabled) {
     summary.tracks_netcdf = study.outputs.dir / "tracks.nc";
@@ -220,8 +226,6 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                                            tables_for(study, field, reefs, sources).attributes);
   }
 
-  // Records go straight to the log unless an exchange merges them first.
-  const bool streaming = !share.exchange;
   // Writes one event's (merged) outcome and adds it to the summary.
   auto finish_event = [&](std::size_t e, const EventOutcome& out, double seconds) {
     const auto& event = study.spawning[e];
@@ -386,6 +390,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     }
   }
   if (!streaming) {
+    open_log();
     for (std::size_t e = 0; e < held.size(); ++e) {
       share.exchange(static_cast<std::uint32_t>(e), held[e]);
       finish_event(e, held[e], held_seconds[e]);
