@@ -74,7 +74,8 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
               << sources.size() << " release sources\n";
       if (team.size() > 1) ctx.out << "  " << team.describe(study, sources.size()) << "\n";
     }
-    if (root && !team.binding_warning().empty()) ctx.err << "cullcast: warning: " << team.binding_warning() << "\n";
+    const std::string binding = team.binding_warning();
+    if (root && !binding.empty()) ctx.err << "cullcast: warning: " << binding << "\n";
     ProgressDisplay display(ctx.err, root && ctx.show_progress(), field->calendar());
     summary = drift::run_drift(study, *field, *reef_set, sources,
                                [&](const drift::DriftProgress& p) { display(p); },

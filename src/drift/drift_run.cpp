@@ -342,7 +342,8 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
           if (!settled_now[i]) continue;
           const double release = step.event_start_s + p.release_s[i];
           const double when = t0 + step.dt_s;
-          const SettlementRecord record{step.event, p.source[i], p.reef[i], release, when, when - release, p.weight[i]};
+          const SettlementRecord record{step.event, p.source[i], p.reef[i], release,
+                                        when,       when - release, p.weight[i]};
           if (streaming) {
             if (log) log->add(record);
           } else {
