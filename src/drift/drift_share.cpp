@@ -47,12 +47,10 @@ std::vector<std::size_t> split_by_cost(const std::vector<ReleaseBatch>& batches,
   return cuts;
 }
 
-void merge_outcome(EventOutcome& into, const EventOutcome& other) {
-  if (into.fates.size() != other.fates.size()) {
-    throw std::logic_error("merge_outcome: " + std::to_string(into.fates.size()) + " and " +
-                           std::to_string(other.fates.size()) + " sources");
-  }
-  // Both lists are sorted by (step, source, particle); merge them.
+namespace {
+
+// Both lists are sorted by (step, source, particle); merges them into `into`.
+void merge_records(EventOutcome& into, const EventOutcome& other) {
   auto key = [](const EventOutcome& o, std::size_t i) {
     const std::uint64_t k = o.record_keys[i];
     return std::array<std::uint64_t, 3>{k >> 32, o.records[i].source, k & 0xFFFFFFFFu};
@@ -80,6 +78,9 @@ void merge_outcome(EventOutcome& into, const EventOutcome& other) {
   }
   into.records = std::move(records);
   into.record_keys = std::move(keys);
+}
+
+void add_counts(EventOutcome& into, const EventOutcome& other) {
   for (std::size_t s = 0; s < into.fates.size(); ++s) {
     FateCounts& a = into.fates[s];
     const FateCounts& b = other.fates[s];
@@ -95,6 +96,24 @@ void merge_outcome(EventOutcome& into, const EventOutcome& other) {
   into.land_contacts += other.land_contacts;
   into.off_water += other.off_water;
   into.max_speed_m_s = std::max(into.max_speed_m_s, other.max_speed_m_s);
+}
+
+}  // namespace
+
+void merge_outcome(EventOutcome& into, const EventOutcome& other) {
+  if (into.fates.size() != other.fates.size()) {
+    throw std::logic_error("merge_outcome: " + std::to_string(into.fates.size()) + " and " +
+                           std::to_string(other.fates.size()) + " sources");
+  }
+  if (other.records.empty()) {
+    // nothing to interleave (with the contiguous split most ranks hold no part of an event)
+  } else if (into.records.empty()) {
+    into.records = other.records;
+    into.record_keys = other.record_keys;
+  } else {
+    merge_records(into, other);
+  }
+  add_counts(into, other);
 }
 
 DriftShare DriftShare::of(const std::vector<ReleaseBatch>& all, std::size_t first, std::size_t last,
