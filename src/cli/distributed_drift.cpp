@@ -161,8 +161,20 @@ std::string DriftTeam::describe(const study::Study& study, std::size_t source_co
   const auto batches = drift::list_batches(study, source_count);
   const auto cuts = drift::split_by_cost(batches, static_cast<std::size_t>(size_));
   std::ostringstream o;
+  o.precision(3);
   o << size_ << " MPI ranks x " << omp_get_max_threads() << " threads; " << batches.size()
     << " release batches (event x source) split by cost:";
+  if (size_ > 8) {  // one line per rank would be too long: the spread only
+    double lo = 0, hi = 0;
+    for (std::size_t r = 0; r + 1 < cuts.size(); ++r) {
+      double cost = 0;
+      for (std::size_t i = cuts[r]; i < cuts[r + 1]; ++i) cost += batches[i].cost();
+      lo = r == 0 ? cost : std::min(lo, cost);
+      hi = std::max(hi, cost);
+    }
+    o << " " << lo / 1e6 << " to " << hi / 1e6 << " M particle-steps per rank";
+    return o.str();
+  }
   for (int r = 0; r < size_; ++r) {
     const std::size_t a = cuts[static_cast<std::size_t>(r)], b = cuts[static_cast<std::size_t>(r) + 1];
     double cost = 0;
@@ -171,8 +183,14 @@ std::string DriftTeam::describe(const study::Study& study, std::size_t source_co
     if (a == b) {
       o << "none";
     } else {
-      o << (b - a) << " (events " << batches[a].event + 1 << "-" << batches[b - 1].event + 1 << ", "
-        << static_cast<long long>(cost / 1e6 + 0.5) << " M particle-steps)";
+      const std::uint32_t e0 = batches[a].event + 1, e1 = batches[b - 1].event + 1;
+      o << (b - a) << " (event";
+      if (e0 == e1) {
+        o << " " << e0;
+      } else {
+        o << "s " << e0 << "-" << e1;
+      }
+      o << ", " << cost / 1e6 << " M particle-steps)";
     }
   }
   return o.str();
