@@ -2,7 +2,8 @@
 # One entry point for a fresh Debian 12 machine.
 #   bash tools/setup.sh demo   install what is missing, build, run the demo study
 #   bash tools/setup.sh test   install what is missing, build, run every test
-#                              (Release, then the fast tests under ASan+UBSan,
+#                              (Release with MPI, so the mpirun tests run too;
+#                              then the fast tests under ASan+UBSan, without MPI;
 #                              then each libFuzzer target for a few seconds)
 #   bash tools/setup.sh deps   only install the Debian packages
 set -euo pipefail
@@ -23,6 +24,8 @@ packages=(
   chromium
   clang libclang-rt-14-dev libomp-dev
 )
+# Only for `test`: its main build is the MPI variant (-DCULLCAST_MPI=ON).
+mpi_packages=(libopenmpi-dev openmpi-bin)
 
 install_missing() {
   local missing=()
@@ -54,7 +57,7 @@ case "${1:-}" in
     ;;
   demo)
     install_missing
-    configure_and_build "$build_dir"
+    configure_and_build "$build_dir" -DCULLCAST_MPI=OFF
     # Both seasons' records (an older checkout may hold only the first).
     if [[ ! -e "$root/scenarios/lantern-reach/currents/lantern_reach_20280110.nc" ]]; then
       echo "setup: generating the demo currents (synthetic, deterministic)"
@@ -63,12 +66,13 @@ case "${1:-}" in
     "$build_dir/cullcast" run "$root/scenarios/lantern-reach.toml"
     ;;
   test)
+    packages+=("${mpi_packages[@]}")
     install_missing
-    configure_and_build "$build_dir"
+    configure_and_build "$build_dir" -DCULLCAST_MPI=ON
     (cd "$build_dir" && ctest --output-on-failure -j "$jobs" --timeout 900)
     if [[ "${CULLCAST_SKIP_SANITIZE:-0}" != 1 ]]; then
       echo "setup: fast tests again under AddressSanitizer + UndefinedBehaviorSanitizer"
-      configure_and_build "$sanitize_dir" -DCULLCAST_SANITIZE=ON -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_FLAGS=-g1
+      configure_and_build "$sanitize_dir" -DCULLCAST_SANITIZE=ON -DCULLCAST_MPI=OFF -DCMAKE_BUILD_TYPE=Release -DCMAKE_CXX_FLAGS=-g1
       (cd "$sanitize_dir" && ASAN_OPTIONS=detect_leaks=0 ctest --output-on-failure -j "$jobs" -L fast --timeout 900)
     fi
     if [[ "${CULLCAST_SKIP_FUZZ:-0}" != 1 ]]; then

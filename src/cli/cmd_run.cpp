@@ -22,7 +22,7 @@ void add_run_command(CLI::App& app, CliContext& ctx) {
       const study::Study study = ctx.load_for_outputs(*scenario, "run");
       PipelineOptions options;
       if (!previous->empty()) options.previous = keep_previous(*previous, study.outputs.dir);
-      run_pipeline(ctx, study, options);
+      if (run_pipeline(ctx, study, options).helper_rank) return 0;  // an MPI helper rank: rank 0 goes on
       if (!ctx.quiet) {
         ctx.out << "Outputs are in " << study.outputs.dir.string() << ".\n"
                 << "Outputs are decision support with stated uncertainty; field work follows "

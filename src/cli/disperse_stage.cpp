@@ -4,14 +4,17 @@
 
 #include <cstdio>
 #include <filesystem>
+#include <optional>
 #include <ostream>
 
 #include "cullcast/base/atomic_file.hpp"
+#include "cullcast/base/error.hpp"
 #include "cullcast/base/system_resources.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/resource_estimate.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
+#include "distributed_drift.hpp"
 #include "progress_display.hpp"
 
 namespace cullcast::cli {
@@ -64,44 +67,69 @@ void add_checkpoint_options(CLI::App& cmd, CliContext& ctx) {
       ->capture_default_str();
 }
 
-drift::DriftSummary run_disperse_stage(const CliContext& ctx, const study::Study& study) {
-  if (!ctx.quiet) {
-    ctx.out << "Study \"" << study.study.name << "\" (seed " << study.study.seed << ", "
-            << study.motion.scheme << ", dt " << study.motion.dt_minutes << " min, Kh "
-            << study.motion.kh_m2_s << " m2/s, " << omp_get_max_threads() << " threads)\n";
-  }
-  currents::CurrentField field = currents::CurrentField::open(study.currents);
-  const reefs::ReefSet reef_set = reefs::ReefSet::load(study.reefs);
-  const auto sources = reefs::release_sources(reef_set, study);
-  if (!ctx.quiet) {
-    ctx.out << "  " << study.currents.files.size() << " currents file(s), "
-            << field.frame_count() << " frames; " << reef_set.size() << " reefs, "
-            << sources.size() << " release sources\n";
-  }
-  drift::check_resources(drift::estimate_resources(study, field, reef_set, sources),
-                         {available_memory_bytes(), ctx.max_memory_bytes,
-                          available_disk_bytes(study.outputs.dir), study.outputs.dir.string()});
-  ProgressDisplay display(ctx.err, ctx.show_progress(), field.calendar());
-  if (std::filesystem::is_directory(study.outputs.dir)) {
-    const std::size_t stale = remove_stale_temporaries(study.outputs.dir);
-    if (stale > 0 && !ctx.quiet) {
-      ctx.err << "cullcast: note: removed " << stale << " unfinished temporary file(s) of an interrupted run from "
-              << study.outputs.dir.string() << "\n";
+std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, const study::Study& study) {
+  DriftTeam team;  // one process, or the ranks of an MPI job (distributed_drift.hpp)
+  const bool root = team.root();
+  std::optional<currents::CurrentField> field;
+  std::optional<reefs::ReefSet> reef_set;
+  drift::DriftSummary summary;
+  try {
+    if (!ctx.quiet && root) {
+      ctx.out << "Study \"" << study.study.name << "\" (seed " << study.study.seed << ", "
+              << study.motion.scheme << ", dt " << study.motion.dt_minutes << " min, Kh "
+              << study.motion.kh_m2_s << " m2/s, " << omp_get_max_threads() << " threads)\n";
     }
+    field.emplace(currents::CurrentField::open(study.currents));
+    reef_set.emplace(reefs::ReefSet::load(study.reefs));
+    const auto sources = reefs::release_sources(*reef_set, study);
+    if (!ctx.quiet && root) {
+      ctx.out << "  " << study.currents.files.size() << " currents file(s), "
+              << field->frame_count() << " frames; " << reef_set->size() << " reefs, "
+              << sources.size() << " release sources\n";
+      if (team.size() > 1) ctx.out << "  " << team.describe(study, sources.size()) << "\n";
+    }
+    const std::string binding = team.binding_warning();
+    if (root && !binding.empty()) ctx.err << "cullcast: warning: " << binding << "\n";
+    drift::check_resources(drift::estimate_resources(study, *field, *reef_set, sources),
+                           {available_memory_bytes(), ctx.max_memory_bytes,
+                            available_disk_bytes(study.outputs.dir), study.outputs.dir.string()});
+    if (root && std::filesystem::is_directory(study.outputs.dir)) {
+      const std::size_t stale = remove_stale_temporaries(study.outputs.dir);
+      if (stale > 0 && !ctx.quiet) {
+        ctx.err << "cullcast: note: removed " << stale << " unfinished temporary file(s) of an interrupted run from "
+                << study.outputs.dir.string() << "\n";
+      }
+    }
+    // Checkpoints and --resume: single-process runs (checkpoint.hpp).
+    drift::CheckpointSettings checkpoint;
+    if (team.size() == 1 && (ctx.checkpoint_minutes > 0 || ctx.resume)) {
+      checkpoint.file = study.outputs.dir / "drift.checkpoint";
+    }
+    checkpoint.every_s = ctx.checkpoint_minutes * 60.0;
+    checkpoint.resume = ctx.resume;
+    if (ctx.resume && team.size() > 1) {
+      throw InputError("--resume continues single-process runs only; run it without mpirun");
+    }
+    if (!ctx.resume && !checkpoint.file.empty() && std::filesystem::exists(checkpoint.file) && !ctx.quiet) {
+      ctx.err << "cullcast: note: " << checkpoint.file.string()
+              << " holds the state of an interrupted run; starting afresh (use --resume to continue it)\n";
+    }
+    if (ctx.resume && !ctx.quiet) ctx.out << "  resuming from " << checkpoint.file.string() << "\n";
+    ProgressDisplay display(ctx.err, root && ctx.show_progress(), field->calendar());
+    summary = drift::run_drift(study, *field, *reef_set, sources,
+                               [&](const drift::DriftProgress& p) { display(p); },
+                               team.share(study, sources.size()), checkpoint);
+    display.finish();
+  } catch (const InputError& e) {
+    if (team.size() == 1) throw;
+    team.fail(std::string("error: ") + e.what(), static_cast<int>(ExitCode::bad_input));
+  } catch (const std::exception& e) {
+    if (team.size() == 1) throw;
+    team.fail(std::string("failed: ") + e.what(), static_cast<int>(ExitCode::runtime_failure));
   }
-  drift::CheckpointSettings checkpoint;
-  if (ctx.checkpoint_minutes > 0 || ctx.resume) checkpoint.file = study.outputs.dir / "drift.checkpoint";
-  checkpoint.every_s = ctx.checkpoint_minutes * 60.0;
-  checkpoint.resume = ctx.resume;
-  if (!ctx.resume && !checkpoint.file.empty() && std::filesystem::exists(checkpoint.file) && !ctx.quiet) {
-    ctx.err << "cullcast: note: " << checkpoint.file.string()
-            << " holds the state of an interrupted run; starting afresh (use --resume to continue it)\n";
-  }
-  if (ctx.resume && !ctx.quiet) ctx.out << "  resuming from " << checkpoint.file.string() << "\n";
-  drift::DriftSummary summary = drift::run_drift(
-      study, field, reef_set, sources, [&](const drift::DriftProgress& p) { display(p); }, checkpoint);
-  display.finish();
-  if (!study.backward.sink.empty()) summary.backward_csv = drift::run_backward(study, field, reef_set);
+  team.finish();
+  if (!root) return std::nullopt;  // rank 0 wrote the outputs and runs the later stages
+  if (!study.backward.sink.empty()) summary.backward_csv = drift::run_backward(study, *field, *reef_set);
   for (const auto& w : summary.warnings) ctx.err << "cullcast: warning: " << w << "\n";
   if (!ctx.quiet) print_summary(ctx.out, summary);
   return summary;

@@ -71,6 +71,10 @@ PipelineSummary run_pipeline(const CliContext& ctx, const study::Study& study,
     }
   } else {
     s.drift = run_disperse_stage(ctx, study);
+    if (!s.drift) {  // an MPI helper rank: rank 0 wrote the records and runs the later stages
+      s.helper_rank = true;
+      return s;
+    }
   }
   s.connect = run_connect_stage(ctx, study);
   if (study.cull.present) s.prioritise = run_prioritise_stage(ctx, study);

@@ -21,6 +21,7 @@ struct PipelineOptions {
 
 struct PipelineSummary {
   std::optional<drift::DriftSummary> drift;  // empty when the settlement records were reused
+  bool helper_rank = false;                  // an MPI rank other than 0: nothing after the drift
   ConnectSummary connect;
   std::optional<PrioritiseSummary> prioritise;
   BriefSummary brief;

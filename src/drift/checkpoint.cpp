@@ -14,7 +14,7 @@ namespace fs = std::filesystem;
 namespace {
 
 constexpr char kMagic[] = "cullcast drift checkpoint\n";
-constexpr std::uint32_t kVersion = 1;
+constexpr std::uint32_t kVersion = 2;
 
 // FNV-1a, 64 bit (Fowler, Noll & Vo; IETF draft-eastlake-fnv, §2): a
 // checksum and fingerprint, not a cryptographic hash.
@@ -105,6 +105,25 @@ FateCounts get_fates(Reader& r) {
   return f;
 }
 
+void put_event(Writer& w, const FinishedEvent& e) {
+  w.put(e.label);
+  w.put(e.particle_steps), w.put(e.land_contacts), w.put(e.off_water), w.put(e.max_speed_m_s);
+  w.put<std::uint64_t>(e.fates.size());
+  for (const auto& f : e.fates) put_fates(w, f);
+}
+
+FinishedEvent get_event(Reader& r) {
+  FinishedEvent e;
+  e.label = r.text();
+  e.particle_steps = r.get<std::uint64_t>();
+  e.land_contacts = r.get<std::uint64_t>();
+  e.off_water = r.get<std::uint64_t>();
+  e.max_speed_m_s = r.get<double>();
+  e.fates.resize(r.get<std::uint64_t>());
+  for (auto& f : e.fates) f = get_fates(r);
+  return e;
+}
+
 void add_file(Fnv& f, const fs::path& p) {
   f.add(p.string());
   std::error_code ec;
@@ -136,22 +155,15 @@ void write_checkpoint(const fs::path& file, const DriftCheckpoint& c) {
   const ParticleSet& p = c.particles;
   w.put(p.lon), w.put(p.lat), w.put(p.depth_m), w.put(p.release_s), w.put(p.weight);
   w.put(p.source), w.put(p.index), w.put(p.fate), w.put(p.reef), w.put(p.development_s), w.put(p.food_log2_s);
-  w.put(c.alive), w.put(c.settled), w.put(c.released), w.put(c.event_particle_steps);
-  w.put(c.land_contacts), w.put(c.max_courant);
+  w.put(c.alive), w.put(c.settled), w.put(c.released);
+  put_event(w, c.current);
   w.put<std::uint64_t>(c.finished.size());
-  for (const auto& e : c.finished) {
-    w.put(e.label);
-    w.put(e.particle_steps);
-    w.put<std::uint64_t>(e.fates.size());
-    for (const auto& f : e.fates) put_fates(w, f);
-  }
+  for (const auto& e : c.finished) put_event(w, e);
   w.put<std::uint64_t>(c.records.size());
   for (const auto& r : c.records) {
     w.put(r.event), w.put(r.source), w.put(r.reef), w.put(r.release_time_s), w.put(r.settle_time_s);
     w.put(r.age_s), w.put(r.weight);
   }
-  w.put<std::uint64_t>(c.warnings.size());
-  for (const auto& s : c.warnings) w.put(s);
   Fnv sum;
   sum.add(w.bytes.data(), w.bytes.size());
   w.put(sum.h);
@@ -200,16 +212,9 @@ DriftCheckpoint read_checkpoint(const fs::path& file, std::uint64_t expected_fin
   c.alive = r.get<std::uint64_t>();
   c.settled = r.get<std::uint64_t>();
   c.released = r.get<std::uint64_t>();
-  c.event_particle_steps = r.get<std::uint64_t>();
-  c.land_contacts = r.get<std::uint64_t>();
-  c.max_courant = r.get<double>();
+  c.current = get_event(r);
   c.finished.resize(r.get<std::uint64_t>());
-  for (auto& e : c.finished) {
-    e.label = r.text();
-    e.particle_steps = r.get<std::uint64_t>();
-    e.fates.resize(r.get<std::uint64_t>());
-    for (auto& f : e.fates) f = get_fates(r);
-  }
+  for (auto& e : c.finished) e = get_event(r);
   c.records.resize(r.get<std::uint64_t>());
   for (auto& rec : c.records) {
     rec.event = r.get<std::uint32_t>();
@@ -220,8 +225,6 @@ DriftCheckpoint read_checkpoint(const fs::path& file, std::uint64_t expected_fin
     rec.age_s = r.get<double>();
     rec.weight = r.get<double>();
   }
-  c.warnings.resize(r.get<std::uint64_t>());
-  for (auto& s : c.warnings) s = r.text();
   return c;
 }
 

@@ -185,8 +185,18 @@ void check_time_coverage(const study::Study& study, const currents::CurrentField
 
 DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                        const reefs::ReefSet& reefs, const std::vector<reefs::ReleaseSource>& sources,
-                       const ProgressFn& progress, const CheckpointSettings& checkpoint) {
+                       const ProgressFn& progress, const DriftShare& share,
+                       const CheckpointSettings& checkpoint) {
   check_time_coverage(study, field);
+  if (!share.batches.empty() && share.batches.size() != study.spawning.size()) {
+    throw std::invalid_argument("run_drift: a share of " + std::to_string(share.batches.size()) +
+                                " events for a study of " + std::to_string(study.spawning.size()));
+  }
+  if (!share.batches.empty() && study.tracks.enabled) {
+    throw InputError(study.scenario_file.string() +
+                     ": [tracks] is written by single-process runs only; run without mpirun "
+                     "(or with -np 1), or switch [tracks] off");
+  }
   DriftSummary summary;
   const auto& calendar = field.calendar();
   const LarvalClock clock(study.larvae);
@@ -207,11 +217,19 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                           (extras.depth.moves() || extras.kh_varies() || extras.environment.any());
   summary.physics = use_extras ? physics : " 2-D, constant Kh";
 
-  fs::create_directories(study.outputs.dir);
   summary.records_netcdf = study.outputs.dir / "settlement.nc";
   if (study.outputs.settlement_csv) summary.records_csv = study.outputs.dir / "settlement.csv";
-  SettlementLog log(summary.records_netcdf, summary.records_csv,
-                    tables_for(study, field, reefs, sources));
+  std::optional<SettlementLog> log;
+  auto open_log = [&] {
+    if (!share.write_outputs) return;
+    log.emplace(summary.records_netcdf, summary.records_csv, tables_for(study, field, reefs, sources));
+  };
+  if (share.write_outputs) fs::create_directories(study.outputs.dir);
+  // Records go straight to the log unless an exchange merges them first; then
+  // the log opens only once this process's drift is done (a process that
+  // fails earlier leaves not even temporary files).
+  const bool streaming = !share.exchange;
+  if (streaming) open_log();
   std::unique_ptr<TrackWriter> tracks;
   if (study.tracks.enabled) {
     summary.tracks_netcdf = study.outputs.dir / "tracks.nc";
@@ -222,48 +240,43 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                                            tables_for(study, field, reefs, sources).attributes);
   }
 
-  GridStepper grid_stepper(field, earth);
-  // Checkpoints (checkpoint.hpp): the records so far and the finished events
-  // are kept so a checkpoint can hold them; not with tracks (the track file
-  // cannot be continued).
-  const bool checkpointing = !checkpoint.file.empty() && !tracks;
-  const std::uint64_t fingerprint = checkpointing || checkpoint.resume ? study_fingerprint(study) : 0;
-  std::vector<SettlementRecord> records_so_far;
-  std::vector<FinishedEvent> finished;
-  std::optional<DriftCheckpoint> resumed;
-  if (checkpoint.resume) {
-    if (tracks) {
-      throw InputError(study.scenario_file.string() + ": [tracks] is on; a run that writes tracks cannot be " +
-                       "resumed (run again without --resume)");
+  // Writes one event's (merged) outcome and adds it to the summary.
+  auto finish_event = [&](std::size_t e, const EventOutcome& out, double seconds) {
+    const auto& event = study.spawning[e];
+    if (out.fates.size() != sources.size()) {
+      throw std::logic_error("run_drift: an exchange left fates of " + std::to_string(out.fates.size()) +
+                             " sources, expected " + std::to_string(sources.size()));
     }
-    resumed = read_checkpoint(checkpoint.file, fingerprint);
-    if (resumed->event >= study.spawning.size()) {
-      throw InputError(checkpoint.file.string() + ": drift checkpoint is for event " +
-                       std::to_string(resumed->event + 1) + " but the scenario has " +
-                       std::to_string(study.spawning.size()));
+    std::int64_t released_here = 0;
+    for (const auto& f : out.fates) released_here += f.released;
+    if (out.off_water > 0) {
+      std::ostringstream w;
+      w << event.label << ": " << out.off_water << " of " << released_here
+        << " release points lie on land or outside the currents grid (they cannot move)";
+      summary.warnings.push_back(w.str());
     }
-    for (const auto& r : resumed->records) log.add(r);
-    records_so_far = resumed->records;
-    summary.land_contacts = resumed->land_contacts;
-    summary.max_courant = resumed->max_courant;
-    summary.warnings = resumed->warnings;
-  }
-  auto finish_event = [&](std::uint32_t e, const std::string& label, std::uint64_t particle_steps,
-                          const std::vector<FateCounts>& per_source, double seconds) {
+    if (log && !streaming) {
+      for (const auto& r : out.records) log->add(r);
+    }
     EventSummary es;
-    es.label = label;
-    es.particle_steps = particle_steps;
+    es.label = event.label;
+    es.particle_steps = out.particle_steps;
     es.seconds = seconds;
-    for (std::size_t s = 0; s < per_source.size(); ++s) {
-      log.set_fates(e, static_cast<std::uint32_t>(s), per_source[s]);
+    summary.land_contacts += out.land_contacts;
+    const double spacing = field.grid().min_spacing_m;
+    if (spacing > 0) {
+      summary.max_courant = std::max(summary.max_courant, out.max_speed_m_s * step.dt_s / spacing);
+    }
+    for (std::size_t s = 0; s < sources.size(); ++s) {
+      if (log) log->set_fates(static_cast<std::uint32_t>(e), static_cast<std::uint32_t>(s), out.fates[s]);
       FateCounts& c = es.fates;
-      c.released += per_source[s].released;
-      c.settled += per_source[s].settled;
-      c.died += per_source[s].died;
-      c.stranded += per_source[s].stranded;
-      c.lost += per_source[s].lost;
-      c.drifting += per_source[s].drifting;
-      c.settled_weight += per_source[s].settled_weight;
+      c.released += out.fates[s].released;
+      c.settled += out.fates[s].settled;
+      c.died += out.fates[s].died;
+      c.stranded += out.fates[s].stranded;
+      c.lost += out.fates[s].lost;
+      c.drifting += out.fates[s].drifting;
+      c.settled_weight += out.fates[s].settled_weight;
     }
     summary.particle_steps += es.particle_steps;
     FateCounts& t = summary.totals;
@@ -273,44 +286,101 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     t.stranded += es.fates.stranded;
     t.lost += es.fates.lost;
     t.drifting += es.fates.drifting;
+    if (es.fates.drifting > 0) {
+      std::ostringstream w;
+      w << event.label << ": " << es.fates.drifting
+        << " larvae were still drifting when the stepping ended (currents end at "
+        << describe_time(calendar, field.stretch_end_s(calendar.to_seconds(event.start)))
+        << (field.stretch_end_s(calendar.to_seconds(event.start)) < field.time_end_s() ? ", before a gap" : "")
+        << "); their fate is unknown";
+      summary.warnings.push_back(w.str());
+    }
     t.settled_weight += es.fates.settled_weight;
     summary.events.push_back(es);
-    if (checkpointing) finished.push_back({label, particle_steps, per_source});
-    return es;
   };
+
+  // Checkpoints (checkpoint.hpp), single-process runs only: the records so
+  // far and the finished events are kept so a checkpoint can hold them; not
+  // with tracks (the track file cannot be continued).
+  const bool single = share.batches.empty() && !share.exchange;
+  if (checkpoint.resume && !single) {
+    throw InputError(checkpoint.file.string() + ": --resume continues single-process runs only; run it without mpirun");
+  }
+  const bool checkpointing = !checkpoint.file.empty() && !tracks && single;
+  const std::uint64_t fingerprint = checkpointing || checkpoint.resume ? study_fingerprint(study) : 0;
+  std::vector<SettlementRecord> records_so_far;
+  std::vector<FinishedEvent> finished;
+  std::optional<DriftCheckpoint> resumed;
   std::size_t first_event = 0;
-  if (resumed) {
+  if (checkpoint.resume) {
+    if (tracks) {
+      throw InputError(study.scenario_file.string() + ": [tracks] is on; a run that writes tracks cannot be " +
+                       "resumed (run again without --resume)");
+    }
+    resumed = read_checkpoint(checkpoint.file, fingerprint);
+    if (resumed->event >= study.spawning.size() || resumed->finished.size() != resumed->event) {
+      throw InputError(checkpoint.file.string() + ": drift checkpoint is for event " +
+                       std::to_string(resumed->event + 1) + " but the scenario has " +
+                       std::to_string(study.spawning.size()));
+    }
+    for (const auto& r : resumed->records) {
+      if (log) log->add(r);
+    }
+    if (checkpointing) records_so_far = resumed->records;
     for (std::size_t e = 0; e < resumed->finished.size(); ++e) {
       const FinishedEvent& f = resumed->finished[e];
-      finish_event(static_cast<std::uint32_t>(e), f.label, f.particle_steps, f.fates, 0.0);
+      EventOutcome done;
+      done.fates = f.fates;
+      done.particle_steps = f.particle_steps;
+      done.land_contacts = f.land_contacts;
+      done.off_water = f.off_water;
+      done.max_speed_m_s = f.max_speed_m_s;
+      finish_event(e, done, 0.0);
+      if (checkpointing) finished.push_back(f);
     }
     first_event = resumed->event;
   }
+  GridStepper grid_stepper(field, earth);
+  auto last_checkpoint = Clock::now();
 
   const auto stage_start = Clock::now();
-  auto last_checkpoint = Clock::now();
+  std::uint64_t stepped = 0;               // particle-steps of this process before this event
+  std::vector<EventOutcome> held;          // with an exchange: outcomes until every event is drifted
+  std::vector<double> held_seconds;
   std::vector<std::uint8_t> settled_now;
   for (std::size_t e = first_event; e < study.spawning.size(); ++e) {
     const auto& event = study.spawning[e];
     const auto event_start = Clock::now();
     step.event = static_cast<std::uint32_t>(e);
     step.event_start_s = calendar.to_seconds(event.start);
+    EventOutcome out;
+    out.fates.assign(sources.size(), FateCounts{});
+    const std::vector<std::uint32_t> mine = share.sources_of(e, sources.size());
+    if (mine.empty()) {  // nothing of this event here: no currents read for it
+      if (streaming) {
+        finish_event(e, out, 0);
+      } else {
+        held.push_back(std::move(out));
+        held_seconds.push_back(0);
+      }
+      continue;
+    }
     const bool resuming_this = resumed && e == resumed->event;
-    ParticleSet p = resuming_this ? std::move(resumed->particles)
-                                  : particles_from(reefs::plan_release(reefs, sources, event, step.event,
-                                                                       study.reefs, study.study.seed));
-    if (extras.environment.any() && !resuming_this) p.enable_development();
+    ParticleSet p;
+    if (resuming_this) {  // the state saved at a step boundary, with its counters
+      p = std::move(resumed->particles);
+      out.particle_steps = resumed->current.particle_steps;
+      out.land_contacts = resumed->current.land_contacts;
+      out.off_water = resumed->current.off_water;
+      out.max_speed_m_s = resumed->current.max_speed_m_s;
+    } else {
+      p = particles_from(reefs::plan_release(reefs, sources, event, step.event, study.reefs, study.study.seed, mine));
+      if (extras.environment.any()) p.enable_development();
+      for (std::size_t i = 0; i < p.size(); ++i) {
+        if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) ++out.off_water;
+      }
+    }
     if (tracks) tracks->begin_event(step.event, p);
-    std::uint64_t off_water = 0;
-    for (std::size_t i = 0; i < p.size() && !resuming_this; ++i) {
-      if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) ++off_water;
-    }
-    if (off_water > 0) {
-      std::ostringstream w;
-      w << event.label << ": " << off_water << " of " << p.size()
-        << " release points lie on land or outside the currents grid (they cannot move)";
-      summary.warnings.push_back(w.str());
-    }
 
     // The nominal lifetime; with temperature-dependent development larvae in
     // cool water live longer in calendar time, so stepping continues until
@@ -322,15 +392,12 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     }
     // The core path on a uniform regular grid has a faster stepper (grid_stepper.hpp).
     const bool on_grid = !use_extras && GridStepper::applies(field, p);
-    EventSummary es;
-    es.label = event.label;
     std::uint64_t alive = 0, settled = 0, released = 0;
     std::uint32_t first_step = 0;
     if (resuming_this) {
       alive = resumed->alive;
       settled = resumed->settled;
       released = resumed->released;
-      es.particle_steps = resumed->event_particle_steps;
       first_step = resumed->next_step;
     }
     auto last_report = Clock::now();
@@ -342,12 +409,9 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
           : on_grid    ? grid_stepper.step(p, k, step, clock, lookup, rng, settled_now)
                        : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
       if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);
-      es.particle_steps += tally.particle_steps;
-      summary.land_contacts += tally.land_contacts;
-      const double spacing = field.grid().min_spacing_m;
-      if (spacing > 0) {
-        summary.max_courant = std::max(summary.max_courant, tally.max_speed_m_s * step.dt_s / spacing);
-      }
+      out.particle_steps += tally.particle_steps;
+      out.land_contacts += tally.land_contacts;
+      out.max_speed_m_s = std::max(out.max_speed_m_s, tally.max_speed_m_s);
       alive += tally.released;
       released += tally.released;
       alive -= tally.settled + tally.died + tally.stranded + tally.lost;
@@ -357,26 +421,16 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
           if (!settled_now[i]) continue;
           const double release = step.event_start_s + p.release_s[i];
           const double when = t0 + step.dt_s;
-          const SettlementRecord record{step.event, p.source[i], p.reef[i], release, when, when - release, p.weight[i]};
-          log.add(record);
-          if (checkpointing) records_so_far.push_back(record);
+          const SettlementRecord record{step.event, p.source[i], p.reef[i], release,
+                                        when,       when - release, p.weight[i]};
+          if (streaming) {
+            if (log) log->add(record);
+            if (checkpointing) records_so_far.push_back(record);
+          } else {
+            out.records.push_back(record);
+            out.record_keys.push_back((std::uint64_t{k} << 32) | p.index[i]);
+          }
         }
-      }
-      if (checkpointing && seconds_since(last_checkpoint) >= checkpoint.every_s && k + 1 < steps) {
-        DriftCheckpoint c;
-        c.fingerprint = fingerprint;
-        c.event = step.event;
-        c.next_step = k + 1;
-        c.particles = p;
-        c.alive = alive, c.settled = settled, c.released = released;
-        c.event_particle_steps = es.particle_steps;
-        c.land_contacts = summary.land_contacts;
-        c.max_courant = summary.max_courant;
-        c.finished = finished;
-        c.records = records_so_far;
-        c.warnings = summary.warnings;
-        write_checkpoint(checkpoint.file, c);
-        last_checkpoint = Clock::now();
       }
       if (progress && (seconds_since(last_report) > 0.25 || k + 1 == steps)) {
         last_report = Clock::now();
@@ -390,15 +444,27 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
         dp.settled = settled;
         dp.elapsed_s = seconds_since(stage_start);
         const double busy = seconds_since(stage_start);
-        dp.particle_steps_per_s = busy > 0 ? (summary.particle_steps + es.particle_steps) / busy : 0;
+        dp.particle_steps_per_s = busy > 0 ? (stepped + out.particle_steps) / busy : 0;
         progress(dp);
       }
       if (alive == 0 && released == p.size()) break;  // every particle has its final fate
+      if (checkpointing && seconds_since(last_checkpoint) >= checkpoint.every_s && k + 1 < steps) {
+        DriftCheckpoint c;
+        c.fingerprint = fingerprint;
+        c.event = step.event;
+        c.next_step = k + 1;
+        c.particles = p;
+        c.alive = alive, c.settled = settled, c.released = released;
+        c.current = {event.label, out.particle_steps, out.land_contacts, out.off_water, out.max_speed_m_s, {}};
+        c.finished = finished;
+        c.records = records_so_far;
+        write_checkpoint(checkpoint.file, c);
+        last_checkpoint = Clock::now();
+      }
     }
     // Final fates per source.
-    std::vector<FateCounts> per_source(sources.size());
     for (std::size_t i = 0; i < p.size(); ++i) {
-      FateCounts& c = per_source[p.source[i]];
+      FateCounts& c = out.fates[p.source[i]];
       ++c.released;
       switch (p.fate[i]) {
         case Fate::settled: ++c.settled; c.settled_weight += p.weight[i]; break;
@@ -409,16 +475,23 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
         case Fate::drifting: ++c.drifting; break;
       }
     }
-    const EventSummary done =
-        finish_event(step.event, event.label, es.particle_steps, per_source, seconds_since(event_start));
-    if (done.fates.drifting > 0) {
-      std::ostringstream w;
-      w << event.label << ": " << done.fates.drifting
-        << " larvae were still drifting when the stepping ended (currents end at "
-        << describe_time(calendar, field.stretch_end_s(step.event_start_s))
-        << (field.stretch_end_s(step.event_start_s) < field.time_end_s() ? ", before a gap" : "")
-        << "); their fate is unknown";
-      summary.warnings.push_back(w.str());
+    stepped += out.particle_steps;
+    if (checkpointing) {
+      finished.push_back({event.label, out.particle_steps, out.land_contacts, out.off_water, out.max_speed_m_s, out.fates});
+    }
+    if (streaming) {
+      finish_event(e, out, seconds_since(event_start));
+    } else {
+      held.push_back(std::move(out));
+      held_seconds.push_back(seconds_since(event_start));
+    }
+  }
+  if (!streaming) {
+    open_log();
+    for (std::size_t e = 0; e < held.size(); ++e) {
+      share.exchange(static_cast<std::uint32_t>(e), held[e]);
+      finish_event(e, held[e], held_seconds[e]);
+      held[e] = EventOutcome{};  // free the records
     }
   }
   summary.seconds = seconds_since(stage_start);
@@ -431,12 +504,14 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       << study.motion.dt_minutes / summary.max_courant;
     summary.warnings.push_back(w.str());
   }
-  log.commit();
-  if (!checkpoint.file.empty()) {
+  if (log) {
+    log->commit();
+    summary.records = log->records_written();
+  }
+  if (!checkpoint.file.empty() && single) {
     std::error_code ignored;  // finished: the checkpoint has served
     fs::remove(checkpoint.file, ignored);
   }
-  summary.records = log.records_written();
   if (tracks) {
     tracks->commit();
     summary.track_samples = tracks->samples();

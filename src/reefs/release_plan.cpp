@@ -159,6 +159,15 @@ std::vector<ReleaseSource> release_sources(const ReefSet& reefs, const study::St
 std::vector<ReleasePoint> plan_release(const ReefSet& reefs, const std::vector<ReleaseSource>& sources,
                                        const study::SpawningEvent& event, std::uint32_t event_index,
                                        const study::ReefSettings& settings, std::uint64_t seed) {
+  std::vector<std::uint32_t> every(sources.size());
+  for (std::size_t si = 0; si < sources.size(); ++si) every[si] = static_cast<std::uint32_t>(si);
+  return plan_release(reefs, sources, event, event_index, settings, seed, every);
+}
+
+std::vector<ReleasePoint> plan_release(const ReefSet& reefs, const std::vector<ReleaseSource>& sources,
+                                       const study::SpawningEvent& event, std::uint32_t event_index,
+                                       const study::ReefSettings& settings, std::uint64_t seed,
+                                       const std::vector<std::uint32_t>& only) {
   if (event.larvae_per_reef < 1) {
     throw InputError("spawning event \"" + event.label + "\": larvae_per_reef must be >= 1");
   }
@@ -169,9 +178,13 @@ std::vector<ReleasePoint> plan_release(const ReefSet& reefs, const std::vector<R
   const int n = event.larvae_per_reef;
   const double window_s = std::max(0.0, event.hours) * 3600.0;
   std::vector<ReleasePoint> plan;
-  plan.reserve(sources.size() * static_cast<std::size_t>(n));
+  plan.reserve(only.size() * static_cast<std::size_t>(n));
   std::vector<LonLat> where;
-  for (std::size_t si = 0; si < sources.size(); ++si) {
+  for (const std::uint32_t si : only) {
+    if (si >= sources.size()) {
+      throw std::invalid_argument("release source index " + std::to_string(si) + " outside the " +
+                                  std::to_string(sources.size()) + " sources");
+    }
     const ReleaseSource& s = sources[si];
     where.clear();
     where.reserve(static_cast<std::size_t>(n));
@@ -184,7 +197,7 @@ std::vector<ReleasePoint> plan_release(const ReefSet& reefs, const std::vector<R
       if (settings.placement == "lattice") {
         lattice_points(reef, n, where);
       } else {
-        uniform_points(reef, event_index, static_cast<std::uint32_t>(si), n, rng, where);
+        uniform_points(reef, event_index, si, n, rng, where);
       }
     } else {
       aggregation_points(s, n, where);
@@ -195,7 +208,7 @@ std::vector<ReleasePoint> plan_release(const ReefSet& reefs, const std::vector<R
       r.lat = where[static_cast<std::size_t>(p)].lat;
       r.depth_m = event.depth_m;
       r.release_offset_s = window_s * p / n;
-      r.source = static_cast<std::uint32_t>(si);
+      r.source = si;
       r.particle = static_cast<std::uint32_t>(p);
       r.weight = 1;
       plan.push_back(r);

@@ -9,6 +9,7 @@
 #include <filesystem>
 #include <fstream>
 #include <netcdf>
+#include <set>
 
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_run.hpp"
@@ -202,4 +203,89 @@ TEST_CASE("events beyond the currents' time span are refused before any output")
   CHECK_THROWS_WITH(run(s), Catch::Matchers::Contains("needs currents from 2026-12-04T00:00:00Z") &&
                                 Catch::Matchers::Contains("cover 2026-12-01T00:00:00Z to 2026-12-06T00:00:00Z"));
   CHECK(!fs::exists(s.outputs.dir / "settlement.nc"));
+}
+
+TEST_CASE("a drift shared between processes merges to the single-process records, bit for bit") {
+  // Three reefs on one line of the eastward flow: larvae of WEST (19 km, 52 h)
+  // and of MID (14 km, 38 h) both reach EAST when competent (> 1 day), so
+  // their records interleave step by step; the random walk spreads them.
+  Workspace w;
+  std::ofstream(w.dir / "reefs.geojson") << R"({"type":"FeatureCollection","features":[
+{"type":"Feature","properties":{"id":"WEST","name":"West Test Reef","priority":0.2},
+ "geometry":{"type":"Polygon","coordinates":[[[150.05,-20.12],[150.07,-20.12],[150.07,-20.08],[150.05,-20.08],[150.05,-20.12]]]}},
+{"type":"Feature","properties":{"id":"MID","name":"Middle Test Reef","priority":0.5},
+ "geometry":{"type":"Polygon","coordinates":[[[150.12,-20.11],[150.14,-20.11],[150.14,-20.09],[150.12,-20.09],[150.12,-20.11]]]}},
+{"type":"Feature","properties":{"id":"EAST","name":"East Test Reef","priority":0.9},
+ "geometry":{"type":"Polygon","coordinates":[[[150.25,-20.15],[150.27,-20.15],[150.27,-20.05],[150.25,-20.05],[150.25,-20.15]]]}}
+]})";
+  study::Study s = w.study("[[spawning]]\nstart = \"2026-12-01T12:00:00Z\"\nhours = 3\nlarvae_per_reef = 150\n");
+  s.motion.kh_m2_s = 20;
+  s.larvae.mortality_per_day = 0.2;
+  currents::CurrentField field = currents::CurrentField::open(s.currents);
+  const auto reef_set = reefs::ReefSet::load(s.reefs);
+  const auto sources = reefs::release_sources(reef_set, s);
+  REQUIRE(sources.size() == 3);
+
+  omp_set_num_threads(1);
+  const drift::DriftSummary whole = drift::run_drift(s, field, reef_set, sources);
+  const auto expected = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
+  std::ifstream csv_in(s.outputs.dir / "settlement.csv");
+  const std::string expected_csv((std::istreambuf_iterator<char>(csv_in)), std::istreambuf_iterator<char>());
+  REQUIRE(expected.records.size() > 100);
+  std::set<std::uint32_t> settling_sources;
+  for (const auto& r : expected.records) settling_sources.insert(r.source);
+  REQUIRE(settling_sources.size() >= 2);  // the merge has records of several sources to interleave
+  fs::remove_all(s.outputs.dir);
+
+  // Three "processes" of 2 batches each: part 0 = event 1 sources 1-2, part 1 =
+  // event 1 source 3 and event 2 source 1, part 2 = event 2 sources 2-3. Parts 2
+  // and 1 run first and keep their outcomes; part 0 merges them as rank 0 would.
+  const auto batches = drift::list_batches(s, sources.size());
+  const auto cuts = drift::split_by_cost(batches, 3);
+  REQUIRE(cuts == std::vector<std::size_t>{0, 2, 4, 6});
+  std::vector<std::vector<drift::EventOutcome>> kept(3);
+  omp_set_num_threads(2);
+  for (std::size_t part : {2u, 1u}) {
+    drift::DriftShare share = drift::DriftShare::of(batches, cuts[part], cuts[part + 1], 2, sources.size());
+    share.write_outputs = false;
+    share.exchange = [&, part](std::uint32_t, drift::EventOutcome& o) { kept[part].push_back(o); };
+    drift::run_drift(s, field, reef_set, sources, {}, share);
+  }
+  CHECK(!fs::exists(s.outputs.dir));  // helpers write nothing
+  drift::DriftShare root = drift::DriftShare::of(batches, cuts[0], cuts[1], 2, sources.size());
+  root.exchange = [&](std::uint32_t e, drift::EventOutcome& o) {
+    drift::merge_outcome(o, kept[1].at(e));
+    drift::merge_outcome(o, kept[2].at(e));
+  };
+  const drift::DriftSummary merged = drift::run_drift(s, field, reef_set, sources, {}, root);
+  omp_set_num_threads(omp_get_num_procs());
+
+  const auto got = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
+  REQUIRE(got.records.size() == expected.records.size());
+  for (std::size_t i = 0; i < got.records.size(); ++i) {
+    const auto &a = got.records[i], &b = expected.records[i];
+    INFO("record " << i);
+    CHECK(a.event == b.event);
+    CHECK(a.source == b.source);
+    CHECK(a.reef == b.reef);
+    CHECK(a.release_time_s == b.release_time_s);
+    CHECK(a.settle_time_s == b.settle_time_s);
+    CHECK(a.age_s == b.age_s);
+    CHECK(a.weight == b.weight);
+  }
+  REQUIRE(got.fates.size() == expected.fates.size());
+  for (std::size_t i = 0; i < got.fates.size(); ++i) {
+    CHECK(got.fates[i].released == expected.fates[i].released);
+    CHECK(got.fates[i].settled == expected.fates[i].settled);
+    CHECK(got.fates[i].died == expected.fates[i].died);
+    CHECK(got.fates[i].lost == expected.fates[i].lost);
+    CHECK(got.fates[i].settled_weight == expected.fates[i].settled_weight);
+  }
+  std::ifstream csv_got(s.outputs.dir / "settlement.csv");
+  CHECK(std::string((std::istreambuf_iterator<char>(csv_got)), std::istreambuf_iterator<char>()) == expected_csv);
+  CHECK(merged.totals.settled == whole.totals.settled);
+  CHECK(merged.totals.settled_weight == whole.totals.settled_weight);
+  CHECK(merged.particle_steps == whole.particle_steps);
+  CHECK(merged.records == whole.records);
+  CHECK(merged.max_courant == whole.max_courant);
 }

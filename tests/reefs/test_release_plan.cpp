@@ -223,3 +223,31 @@ TEST_CASE("release_sources: reefs with density x area, then aggregations", "[ree
   st.reefs.missing_survey = "refuse";
   CHECK_THROWS_AS(release_sources(set, st), InputError);
 }
+
+TEST_CASE("a plan for some sources holds exactly their part of the full plan", "[reefs][release]") {
+  // A run shared across processes plans only its own sources; the larvae must
+  // be the same as in the single-process plan, bit for bit.
+  const ReefSet set({make_reef("a", {Polygon{star(150.1, -20.1, 0.01, 17, 0.4, 3), {}}}),
+                     make_reef("b", {Polygon{star(150.2, -20.1, 0.005, 11, 0.2, 2), {}}}),
+                     make_reef("c", {Polygon{star(150.3, -20.1, 0.008, 13, 0.3, 1), {}}})});
+  ReleaseSource agg;
+  agg.id = "AGG-1";
+  agg.kind = SourceKind::aggregation;
+  agg.points = {{150.0, -20.0}, {150.001, -20.0}};
+  const std::vector<ReleaseSource> sources{reef_source(0, "a"), reef_source(1, "b"), agg, reef_source(2, "c")};
+  study::ReefSettings settings;
+  const auto e = event_with(50, 2.0, 1.0);
+  const auto full = plan_release(set, sources, e, 2, settings, 99);
+  const std::vector<std::uint32_t> only{1, 3};
+  const auto part = plan_release(set, sources, e, 2, settings, 99, only);
+  REQUIRE(part.size() == 100);
+  for (std::size_t i = 0; i < part.size(); ++i) {
+    const ReleasePoint& f = full[only[i / 50] * 50 + i % 50];
+    CHECK(part[i].source == f.source);
+    CHECK(part[i].particle == f.particle);
+    CHECK(part[i].lon == f.lon);
+    CHECK(part[i].lat == f.lat);
+    CHECK(part[i].release_offset_s == f.release_offset_s);
+  }
+  CHECK_THROWS_AS(plan_release(set, sources, e, 2, settings, 99, {4}), std::invalid_argument);
+}

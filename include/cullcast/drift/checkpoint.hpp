@@ -27,10 +27,14 @@ struct CheckpointSettings {
   bool resume = false;         // continue from `file`
 };
 
-// One finished spawning event, as run_drift summarises it.
+// One spawning event's counters, as run_drift keeps them (finished events;
+// and the event in progress, whose fates are still empty).
 struct FinishedEvent {
   std::string label;
   std::uint64_t particle_steps = 0;
+  std::uint64_t land_contacts = 0;
+  std::uint64_t off_water = 0;    // release points not over water
+  double max_speed_m_s = 0;       // largest current speed met (Courant check)
   std::vector<FateCounts> fates;  // per source
 };
 
@@ -39,12 +43,10 @@ struct DriftCheckpoint {
   std::uint32_t event = 0;        // event in progress
   std::uint32_t next_step = 0;    // first step not yet run
   ParticleSet particles;          // that event's particles after step next_step - 1
-  std::uint64_t alive = 0, settled = 0, released = 0, event_particle_steps = 0;
-  std::uint64_t land_contacts = 0;
-  double max_courant = 0;
+  std::uint64_t alive = 0, settled = 0, released = 0;
+  FinishedEvent current;          // counters of the event in progress
   std::vector<FinishedEvent> finished;
   std::vector<SettlementRecord> records;  // every record so far, in log order
-  std::vector<std::string> warnings;
 };
 
 // Identifies a study for resuming: the scenario file's bytes, the --set

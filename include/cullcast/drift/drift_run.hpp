@@ -9,6 +9,7 @@
 
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/checkpoint.hpp"
+#include "cullcast/drift/drift_share.hpp"
 #include "cullcast/drift/settlement_log.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
@@ -59,12 +60,18 @@ using ProgressFn = std::function<void(const DriftProgress&)>;
 // lifetime; throws InputError naming the event and the span otherwise.
 void check_time_coverage(const study::Study& study, const currents::CurrentField& field);
 
-// With `checkpoint.file` set, writes the state to it every `every_s` seconds
-// of wall-clock time and removes it when done; with `checkpoint.resume`,
-// continues from it (checkpoint.hpp). Results are bit-identical either way.
+// `share` (drift_share.hpp): the batches this process drifts and how its
+// results meet those of the other processes; by default every batch, written
+// here. With a share, the summary counts what this process wrote (the merged
+// run where write_outputs is true); [tracks] needs the whole run in one process.
+// With `checkpoint.file` set (single-process runs), writes the state to it
+// every `every_s` seconds of wall-clock time and removes it when done; with
+// `checkpoint.resume`, continues from it (checkpoint.hpp). Results are
+// bit-identical either way.
 DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                        const reefs::ReefSet& reefs, const std::vector<reefs::ReleaseSource>& sources,
-                       const ProgressFn& progress = {}, const CheckpointSettings& checkpoint = {});
+                       const ProgressFn& progress = {}, const DriftShare& share = {},
+                       const CheckpointSettings& checkpoint = {});
 
 // Backward drift from [backward] sink (backward_drift.hpp): writes
 // <outputs>/backward_origins.csv (reef_id, weight, share) and returns its path.

@@ -53,4 +53,13 @@ std::vector<ReleasePoint> plan_release(const ReefSet& reefs,
                                        const study::SpawningEvent& event, std::uint32_t event_index,
                                        const study::ReefSettings& settings, std::uint64_t seed);
 
+// The part of that plan for the sources listed in `only` (indices into
+// `sources`, ascending): the same points, in the same order, as in the full
+// plan, so a run shared across processes drifts the same larvae.
+std::vector<ReleasePoint> plan_release(const ReefSet& reefs,
+                                       const std::vector<ReleaseSource>& sources,
+                                       const study::SpawningEvent& event, std::uint32_t event_index,
+                                       const study::ReefSettings& settings, std::uint64_t seed,
+                                       const std::vector<std::uint32_t>& only);
+
 }  // namespace cullcast::reefs

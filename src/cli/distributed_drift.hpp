@@ -1,0 +1,54 @@
+#pragma once
+// The drift stage shared by the processes of an MPI job
+// (`mpirun -np N cullcast disperse|run SCENARIO`, docs/scaling.md): each rank
+// drifts a contiguous, cost-balanced share of the release batches
+// (drift/drift_share.hpp); after the drift, each event's records and fates go
+// to rank 0, which merges them into the single-process order and alone writes
+// the outputs. A rank that fails prints why and stops the whole job
+// (MPI_Abort) before anything is written.
+//
+// Built with -DCULLCAST_MPI=ON only; without it, a program that an MPI
+// launcher started more than once stops with a message rather than letting N
+// copies each do the whole run.
+#include <cstddef>
+#include <string>
+
+#include "cullcast/drift/drift_share.hpp"
+#include "cullcast/study/study.hpp"
+
+namespace cullcast::cli {
+
+// How many processes an MPI launcher started (its environment), 1 without one.
+int launched_processes();
+
+class DriftTeam {
+ public:
+  // Joins the MPI job (MPI_Init) when launched_processes() > 1; throws
+  // InputError then in a build without MPI.
+  DriftTeam();
+  ~DriftTeam();  // leaves the job (MPI_Finalize) unless finish() did
+  DriftTeam(const DriftTeam&) = delete;
+  DriftTeam& operator=(const DriftTeam&) = delete;
+
+  int rank() const { return rank_; }
+  int size() const { return size_; }
+  bool root() const { return rank_ == 0; }
+
+  // This process's share of the drift; with one process, every batch.
+  drift::DriftShare share(const study::Study& study, std::size_t source_count) const;
+  // One line for the root's summary: how the batches were split.
+  std::string describe(const study::Study& study, std::size_t source_count) const;
+  // Empty, or why this rank's threads share too few cores (mpirun binds each
+  // rank to one core by default, whatever OMP_NUM_THREADS says).
+  std::string binding_warning() const;
+  // Prints "cullcast: rank R of N: <message>" and stops every rank of the job
+  // with `exit_code`; with one process, only throws.
+  [[noreturn]] void fail(const std::string& message, int exit_code) const;
+  void finish();  // leaves the job once every rank's share is merged
+
+ private:
+  int rank_ = 0, size_ = 1;
+  bool joined_ = false;
+};
+
+}  // namespace cullcast::cli
