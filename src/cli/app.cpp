@@ -5,6 +5,7 @@
 #include <iostream>
 
 #include "cli_context.hpp"
+#include "distributed_drift.hpp"
 #include "cullcast/base/byte_size.hpp"
 #include "cullcast/base/error.hpp"
 #include "cullcast/base/suggest.hpp"
@@ -19,7 +20,8 @@ study::Study CliContext::load(const std::string& scenario) const {
 
 study::Study CliContext::load_for_outputs(const std::string& scenario, const std::string& command) {
   study::Study study = load(scenario);
-  if (!output_lock) {
+  // Under mpirun only rank 0 writes outputs, so only rank 0 holds the lock.
+  if (!output_lock && launched_rank() == 0) {
     output_lock.emplace(OutputLock::acquire(study.outputs.dir, command));
     if (!output_lock->stale_note().empty()) err << "cullcast: warning: " << output_lock->stale_note() << "\n";
   }

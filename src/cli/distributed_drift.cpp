@@ -32,6 +32,16 @@ int launched_processes() {
   return 1;
 }
 
+int launched_rank() {
+  for (const char* name : {"OMPI_COMM_WORLD_RANK", "PMI_RANK"}) {
+    if (const char* v = std::getenv(name)) {
+      const int r = std::atoi(v);
+      if (r >= 0) return r;
+    }
+  }
+  return 0;
+}
+
 #ifdef CULLCAST_WITH_MPI
 namespace {
 

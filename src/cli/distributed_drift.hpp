@@ -20,6 +20,9 @@ namespace cullcast::cli {
 
 // How many processes an MPI launcher started (its environment), 1 without one.
 int launched_processes();
+// This process's rank as the launcher numbered it (0 without a launcher);
+// known before MPI starts, so the CLI can leave the output lock to rank 0.
+int launched_rank();
 
 class DriftTeam {
  public:
