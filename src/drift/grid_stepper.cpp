@@ -186,7 +186,6 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   const double settle_p = clock.settle_probability(s.dt_s);
   const double constant_survive = clock.step_survival(0.0, s.dt_s);
   const bool constant_hazard = clock.constant_hazard();
-  const bool random_deaths = clock.random_deaths();
   const std::int64_t n = static_cast<std::int64_t>(p.size());
   settled_now.assign(p.size(), 0);
 
@@ -320,29 +319,10 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
       const double age0 = t0 - p.release_s[i];
       const double age1 = t1 - p.release_s[i];
       const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
-      if (random_deaths) {
-        if (survive < 1.0 && rng.uniform2(id, step, Draw::mortality)[0] >= survive) {
-          p.fate[i] = Fate::died;
-          ++died;
-          continue;
-        }
-      } else {
-        p.weight[i] *= survive;
-      }
-      if (clock.competent(age1)) {
-        const int reef = reefs.reef_at(lon[l], lat[l]);
-        if (reef >= 0 && (settle_p >= 1.0 || rng.uniform2(id, step, Draw::settlement)[0] < settle_p)) {
-          p.fate[i] = Fate::settled;
-          p.reef[i] = reef;
-          settled_now[i] = 1;
-          ++settled;
-          continue;
-        }
-      }
-      if (age1 >= clock.max_age_s()) {
-        p.fate[i] = Fate::died;
-        ++died;
-        continue;
+      switch (end_step(p, i, id, step, survive, age1, lon[l], lat[l], settle_p, clock, reefs, rng)) {
+        case StepEnd::died: ++died; break;
+        case StepEnd::settled: settled_now[i] = 1; ++settled; break;
+        case StepEnd::drifting: break;
       }
     }
   }

@@ -38,6 +38,7 @@
 #include "cullcast/drift/integrator.hpp"
 #include "cullcast/drift/larval_clock.hpp"
 #include "cullcast/drift/particles.hpp"
+#include "cullcast/drift/step_end.hpp"
 #include "cullcast/drift/step_extras.hpp"
 
 namespace cullcast::drift {
@@ -185,32 +186,11 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
       }
     }
     const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
-    if (clock.random_deaths()) {
-      if (survive < 1.0 && rng.uniform2(id, step, Draw::mortality)[0] >= survive) {
-        p.fate[i] = Fate::died;
-        ++died;
-        continue;
-      }
-    } else {
-      p.weight[i] *= survive;
+    switch (end_step(p, i, id, step, survive, dev1, x[0], x[1], settle_p, clock, reefs, rng)) {
+      case StepEnd::died: ++died; break;
+      case StepEnd::settled: settled_now[i] = 1; ++settled; break;
+      case StepEnd::drifting: break;
     }
-    if (clock.competent(dev1)) {
-      const int reef = reefs.reef_at(x[0], x[1]);
-      if (reef >= 0 &&
-          (settle_p >= 1.0 || rng.uniform2(id, step, Draw::settlement)[0] < settle_p)) {
-        p.fate[i] = Fate::settled;
-        p.reef[i] = reef;
-        settled_now[i] = 1;
-        ++settled;
-        continue;
-      }
-    }
-    if (dev1 >= clock.max_age_s()) {
-      p.fate[i] = Fate::died;
-      ++died;
-      continue;
-    }
-    p.fate[i] = Fate::drifting;
   }
 
   StepTally tally;
