@@ -7,22 +7,12 @@
 
 #include "cullcast/base/atomic_file.hpp"
 #include "cullcast/report/briefing.hpp"
+#include "html_numbers.hpp"
 
 namespace cullcast::report {
 namespace {
 
-std::string sig(double v, int digits = 3) {
-  if (std::isnan(v)) return "&ndash;";
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*g", digits, v);
-  return b;
-}
-std::string fixed(double v, int digits) {
-  if (std::isnan(v)) return "&ndash;";
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*f", digits, v);
-  return b;
-}
+
 
 constexpr const char* kCss = R"CSS(
 :root { --ink:#1c2329; --muted:#5a6670; --rule:#d5dbe0; --accent:#2f6fae; }
@@ -95,8 +85,8 @@ std::string render_briefing_html(const BriefingData& d) {
   if (d.cull_present && !d.ranking.empty()) {
     double effort = 0;
     for (const auto& c : d.ranking) effort += c.effort_days;
-    s << "<div class='key'><b>" << fixed(d.ranking.back().cumulative_pct, 1) << " %</b><span>of recruitment on priority "
-      << "reefs averted by the plan (" << d.ranking.size() << " sites, " << sig(effort) << " vessel-days culling)</span></div>";
+    s << "<div class='key'><b>" << html_fixed(d.ranking.back().cumulative_pct, 1) << " %</b><span>of recruitment on priority "
+      << "reefs averted by the plan (" << d.ranking.size() << " sites, " << html_sig(effort) << " vessel-days culling)</span></div>";
   }
   s << "</div>\n";
   for (const auto& w : d.warnings) s << "<p class='warn'>\u26a0 " << html_escape(w) << "</p>\n";
@@ -121,9 +111,9 @@ std::string render_briefing_html(const BriefingData& d) {
     for (const auto& c : d.ranking) {
       const std::string name = c.reef >= 0 ? d.reefs[c.reef].name : c.reef_id;
       s << "<tr><td class='n'>" << c.rank << "</td><td>" << html_escape(name) << "<br><span class='mono'>"
-        << html_escape(c.reef_id) << "</span></td><td class='n'>" << sig(c.effort_days) << "</td><td class='n'>"
-        << fixed(c.averted_pct, 1) << "</td><td class='n'>" << fixed(c.cumulative_pct, 1) << "</td><td class='n'>"
-        << fixed(100 * c.in_best_share, 0) << " %" << (c.one_night ? "<br><span class='warn'>depends on one night</span>" : "")
+        << html_escape(c.reef_id) << "</span></td><td class='n'>" << html_sig(c.effort_days) << "</td><td class='n'>"
+        << html_fixed(c.averted_pct, 1) << "</td><td class='n'>" << html_fixed(c.cumulative_pct, 1) << "</td><td class='n'>"
+        << html_fixed(100 * c.in_best_share, 0) << " %" << (c.one_night ? "<br><span class='warn'>depends on one night</span>" : "")
         << "</td><td>" << html_escape(c.explanation) << "</td></tr>\n";
     }
     s << "</tbody></table>\n";
@@ -169,10 +159,10 @@ std::string render_briefing_html(const BriefingData& d) {
     const ReefResult q = i < static_cast<int>(d.results.size()) ? d.results[i] : ReefResult{};
     s << "<tr><td>" << html_escape(r.name) << "<br><span class='mono'>" << html_escape(r.id) << "</span></td><td>"
       << "<span class='swatch' style='background:" << role_colour(q.role) << "'></span>" << html_escape(q.role)
-      << "</td><td class='n'>" << sig(r.priority) << "</td><td class='n'>" << sig(q.larval_output)
-      << "</td><td class='n'>" << sig(q.local_retention) << "</td><td class='n'>" << sig(q.self_recruitment)
-      << "</td><td class='n'>" << sig(q.export_strength) << "</td><td class='n'>" << sig(q.import_strength)
-      << "</td><td class='n'>" << sig(100 * q.settle_probability) << "</td></tr>\n";
+      << "</td><td class='n'>" << html_sig(r.priority) << "</td><td class='n'>" << html_sig(q.larval_output)
+      << "</td><td class='n'>" << html_sig(q.local_retention) << "</td><td class='n'>" << html_sig(q.self_recruitment)
+      << "</td><td class='n'>" << html_sig(q.export_strength) << "</td><td class='n'>" << html_sig(q.import_strength)
+      << "</td><td class='n'>" << html_sig(100 * q.settle_probability) << "</td></tr>\n";
   }
   s << "</tbody></table>\n<p class='sub'>Larval output in units of surveyed adults (equal outputs when none were "
        "surveyed); export/import in the same units. Definitions: docs/methods.md and docs/briefing.md.</p></section>\n";

@@ -10,28 +10,12 @@
 
 #include "cullcast/base/atomic_file.hpp"
 #include "cullcast/report/briefing.hpp"
+#include "html_numbers.hpp"
 
 namespace cullcast::report {
 namespace {
 
-std::string sig(double v, int digits = 3) {
-  if (std::isnan(v)) return "&ndash;";
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*g", digits, v);
-  return b;
-}
-std::string fixed(double v, int digits) {
-  if (std::isnan(v)) return "&ndash;";
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*f", digits, v);
-  return b;
-}
-std::string signed_fixed(double v, int digits) {
-  if (std::isnan(v)) return "&ndash;";
-  char b[64];
-  std::snprintf(b, sizeof b, "%+.*f", digits, v);
-  return b;
-}
+
 
 }  // namespace
 
@@ -102,20 +86,20 @@ std::string render_comparison_section(const compare::RunComparison& c,
     << "</span></p>\n";
   s << "<div class='keys'>";
   s << "<div class='key'><b>" << c.links_significant << " / " << c.links_tested
-    << "</b><span>links that differ beyond sampling noise at the " << sig(100 * c.alpha)
-    << " % level (about " << fixed(c.expected_false_positives, 1) << " expected by chance alone); "
+    << "</b><span>links that differ beyond sampling noise at the " << html_sig(100 * c.alpha)
+    << " % level (about " << html_fixed(c.expected_false_positives, 1) << " expected by chance alone); "
     << c.links_significant_fdr << " after the false discovery rate adjustment</span></div>";
   s << "<div class='key'><b>" << c.roles_changed
     << "</b><span>reefs changed role (source, sink, "
        "exchange, isolated)</span></div>";
   if (c.plans) {
     s << "<div class='key'><b>"
-      << (std::isnan(c.tau.tau) ? std::string("&ndash;") : fixed(c.tau.tau, 2))
+      << (std::isnan(c.tau.tau) ? std::string("&ndash;") : html_fixed(c.tau.tau, 2))
       << "</b><span>Kendall's tau-b between the two cull rankings (1 = same order)</span></div>";
-    s << "<div class='key'><b>" << fixed(c.averted_pct_a, 1) << " \u2192 "
-      << fixed(c.averted_pct_b, 1)
+    s << "<div class='key'><b>" << html_fixed(c.averted_pct_a, 1) << " \u2192 "
+      << html_fixed(c.averted_pct_b, 1)
       << " %</b><span>recruitment on priority reefs averted by the plan ("
-      << signed_fixed(c.averted_pct_b - c.averted_pct_a, 1) << " points)</span></div>";
+      << html_signed_fixed(c.averted_pct_b - c.averted_pct_a, 1) << " points)</span></div>";
   }
   s << "</div>\n";
   if (c.identical()) s << "<p>No difference: every link count, role and rank is the same.</p>\n";
@@ -157,11 +141,11 @@ std::string render_comparison_section(const compare::RunComparison& c,
     if (!l.significant) continue;
     ++shown;
     s << "<tr><td class='mono'>" << html_escape(l.source_id) << "</td><td class='mono'>"
-      << html_escape(l.sink_id) << "</td><td class='n'>" << sig(l.probability_a)
-      << "</td><td class='n'>" << sig(l.probability_b) << "</td><td class='n'>"
-      << sig(l.difference()) << "</td><td class='n'>" << l.settlers_a << " / " << l.released_a
+      << html_escape(l.sink_id) << "</td><td class='n'>" << html_sig(l.probability_a)
+      << "</td><td class='n'>" << html_sig(l.probability_b) << "</td><td class='n'>"
+      << html_sig(l.difference()) << "</td><td class='n'>" << l.settlers_a << " / " << l.released_a
       << " \u2192 " << l.settlers_b << " / " << l.released_b << "</td><td class='n'>"
-      << sig(l.test.p_value, 2) << "</td><td>"
+      << html_sig(l.test.p_value, 2) << "</td><td>"
       << (l.significant_fdr ? "yes (also after FDR)" : "yes")
       << (l.test.min_expected < 5 ? " <span class='warn'>few particles</span>" : "")
       << "</td></tr>\n";
@@ -173,8 +157,8 @@ std::string render_comparison_section(const compare::RunComparison& c,
        "the second (pooled over spawning events). The test compares the fractions of released "
        "particles that "
        "settled (two-proportion z-test, two-sided, level "
-    << sig(c.alpha) << "); with " << c.links_tested << " links tested, about "
-    << fixed(c.expected_false_positives, 1)
+    << html_sig(c.alpha) << "); with " << c.links_tested << " links tested, about "
+    << html_fixed(c.expected_false_positives, 1)
     << " would be flagged by chance alone even if nothing had changed, so single flagged links "
        "with large "
        "p-values deserve little weight. \u201cAlso after FDR\u201d: still flagged when the "
@@ -193,8 +177,8 @@ std::string render_comparison_section(const compare::RunComparison& c,
         << "'></span>" << html_escape(r.role_a.empty() ? "(absent)" : r.role_a)
         << "</td><td><span class='swatch' style='background:" << role_colour(r.role_b)
         << "'></span>" << html_escape(r.role_b.empty() ? "(absent)" : r.role_b)
-        << "</td><td class='n'>" << sig(r.export_a) << " \u2192 " << sig(r.export_b)
-        << "</td><td class='n'>" << sig(r.import_a) << " \u2192 " << sig(r.import_b)
+        << "</td><td class='n'>" << html_sig(r.export_a) << " \u2192 " << html_sig(r.export_b)
+        << "</td><td class='n'>" << html_sig(r.import_a) << " \u2192 " << html_sig(r.import_b)
         << "</td></tr>\n";
     }
     s << "</tbody></table>\n";
