@@ -17,6 +17,7 @@
 #include <optional>
 #include <sstream>
 
+#include "../support/cf_axes.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_run.hpp"
 #include "cullcast/drift/earth_model.hpp"
@@ -80,21 +81,7 @@ struct Workspace {
     using namespace netCDF;
     NcFile f((dir / c.name).string(), NcFile::replace, NcFile::nc4);
     const std::size_t nt = c.hours + 1, ny = 21, nx = 51, nz = std::max<std::size_t>(1, c.depths.size());
-    const NcDim t = f.addDim("time", nt), y = f.addDim("lat", ny), x = f.addDim("lon", nx);
-    NcVar vt = f.addVar("time", ncDouble, t);
-    vt.putAtt("units", "hours since 2026-12-01 00:00:00");
-    vt.putAtt("calendar", "standard");
-    NcVar vy = f.addVar("lat", ncDouble, y);
-    vy.putAtt("units", "degrees_north");
-    NcVar vx = f.addVar("lon", ncDouble, x);
-    vx.putAtt("units", "degrees_east");
-    std::vector<double> tv(nt), yv(ny), xv(nx);
-    for (std::size_t k = 0; k < nt; ++k) tv[k] = static_cast<double>(k);
-    for (std::size_t j = 0; j < ny; ++j) yv[j] = -20.2 + 0.01 * j;
-    for (std::size_t i = 0; i < nx; ++i) xv[i] = 150.0 + 0.01 * i;
-    vt.putVar(tv.data());
-    vy.putVar(yv.data());
-    vx.putVar(xv.data());
+    const auto [t, y, x] = test::add_regular_axes(f, nt, ny, nx, 150.0, -20.2, 0.01);
     std::vector<NcDim> dims{t, y, x};
     if (!c.depths.empty()) {
       const NcDim z = f.addDim("depth", nz);

@@ -11,6 +11,7 @@
 #include <netcdf>
 #include <set>
 
+#include "../support/cf_axes.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_run.hpp"
 #include "cullcast/drift/earth_model.hpp"
@@ -44,21 +45,7 @@ struct Workspace {
     using namespace netCDF;
     NcFile f((dir / "uniform.nc").string(), NcFile::replace, NcFile::nc4);
     const std::size_t nt = 121, ny = 21, nx = 51;
-    const NcDim t = f.addDim("time", nt), y = f.addDim("lat", ny), x = f.addDim("lon", nx);
-    NcVar vt = f.addVar("time", ncDouble, t);
-    vt.putAtt("units", "hours since 2026-12-01 00:00:00");
-    vt.putAtt("calendar", "standard");
-    NcVar vy = f.addVar("lat", ncDouble, y);
-    vy.putAtt("units", "degrees_north");
-    NcVar vx = f.addVar("lon", ncDouble, x);
-    vx.putAtt("units", "degrees_east");
-    std::vector<double> tv(nt), yv(ny), xv(nx);
-    for (std::size_t k = 0; k < nt; ++k) tv[k] = static_cast<double>(k);
-    for (std::size_t j = 0; j < ny; ++j) yv[j] = -20.2 + 0.01 * j;
-    for (std::size_t i = 0; i < nx; ++i) xv[i] = 150.0 + 0.01 * i;
-    vt.putVar(tv.data());
-    vy.putVar(yv.data());
-    vx.putVar(xv.data());
+    const auto [t, y, x] = test::add_regular_axes(f, nt, ny, nx, 150.0, -20.2, 0.01);
     NcVar u = f.addVar("u", ncFloat, {t, y, x}), v = f.addVar("v", ncFloat, {t, y, x});
     u.putAtt("standard_name", "eastward_sea_water_velocity");
     v.putAtt("standard_name", "northward_sea_water_velocity");

@@ -10,6 +10,7 @@
 #include <netcdf>
 #include <vector>
 
+#include "../support/cf_axes.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_step.hpp"
 #include "cullcast/drift/grid_stepper.hpp"
@@ -32,21 +33,7 @@ fs::path write_flow(const fs::path& dir, std::size_t nx, std::size_t ny, double 
   const fs::path file = dir / "flow.nc";
   NcFile f(file.string(), NcFile::replace, NcFile::nc4);
   const std::size_t nt = 13;
-  const NcDim t = f.addDim("time", nt), y = f.addDim("lat", ny), x = f.addDim("lon", nx);
-  NcVar vt = f.addVar("time", ncDouble, t);
-  vt.putAtt("units", "hours since 2026-12-01 00:00:00");
-  vt.putAtt("calendar", "standard");
-  NcVar vy = f.addVar("lat", ncDouble, y);
-  vy.putAtt("units", "degrees_north");
-  NcVar vx = f.addVar("lon", ncDouble, x);
-  vx.putAtt("units", "degrees_east");
-  std::vector<double> tv(nt), yv(ny), xv(nx);
-  for (std::size_t k = 0; k < nt; ++k) tv[k] = static_cast<double>(k);
-  for (std::size_t j = 0; j < ny; ++j) yv[j] = lat0 + step_deg * static_cast<double>(j);
-  for (std::size_t i = 0; i < nx; ++i) xv[i] = lon0 + step_deg * static_cast<double>(i);
-  vt.putVar(tv.data());
-  vy.putVar(yv.data());
-  vx.putVar(xv.data());
+  const auto [t, y, x] = test::add_regular_axes(f, nt, ny, nx, lon0, lat0, step_deg);
   NcVar u = f.addVar("u", ncFloat, {t, y, x}), v = f.addVar("v", ncFloat, {t, y, x});
   u.putAtt("standard_name", "eastward_sea_water_velocity");
   v.putAtt("standard_name", "northward_sea_water_velocity");

@@ -10,6 +10,7 @@
 #include <fstream>
 #include <netcdf>
 
+#include "../support/cf_axes.hpp"
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_run.hpp"
@@ -44,21 +45,7 @@ struct TwoSeasons {
     using namespace netCDF;
     NcFile f((dir / name).string(), NcFile::replace, NcFile::nc4);
     const std::size_t nt = 121, ny = 21, nx = 51;
-    const NcDim t = f.addDim("time", nt), y = f.addDim("lat", ny), x = f.addDim("lon", nx);
-    NcVar vt = f.addVar("time", ncDouble, t);
-    vt.putAtt("units", time_units);
-    vt.putAtt("calendar", "standard");
-    NcVar vy = f.addVar("lat", ncDouble, y);
-    vy.putAtt("units", "degrees_north");
-    NcVar vx = f.addVar("lon", ncDouble, x);
-    vx.putAtt("units", "degrees_east");
-    std::vector<double> tv(nt), yv(ny), xv(nx);
-    for (std::size_t k = 0; k < nt; ++k) tv[k] = static_cast<double>(k);
-    for (std::size_t j = 0; j < ny; ++j) yv[j] = -20.2 + 0.01 * j;
-    for (std::size_t i = 0; i < nx; ++i) xv[i] = 150.0 + 0.01 * i;
-    vt.putVar(tv.data());
-    vy.putVar(yv.data());
-    vx.putVar(xv.data());
+    const auto [t, y, x] = test::add_regular_axes(f, nt, ny, nx, 150.0, -20.2, 0.01, time_units);
     auto field = [&](const char* vname, const char* standard_name, const char* units, float value) {
       NcVar v = f.addVar(vname, ncFloat, {t, y, x});
       v.putAtt("standard_name", standard_name);
