@@ -327,16 +327,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
     }
   }
 
-  StepTally tally;
-  tally.particle_steps = particle_steps;
-  tally.land_contacts = land_contacts;
-  tally.released = released;
-  tally.settled = settled;
-  tally.died = died;
-  tally.stranded = stranded;
-  tally.lost = lost;
-  tally.max_speed_m_s = max_speed;
-  return tally;
+  return StepTally{particle_steps, land_contacts, released, settled, died, stranded, lost, max_speed};
 }
 
 }  // namespace cullcast::drift
