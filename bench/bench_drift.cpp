@@ -8,7 +8,10 @@
 // (Smagorinsky, drift-corrected walk), 3-D depth (Kv walk, reflection) and
 // both, to report their cost relative to the core path.
 //
-//   bench_drift [particles=1000000] [steps=36]
+//   bench_drift [particles=1000000] [steps=36] [only-production]
+//
+// With a third argument "only-production" it times the grid stepper on one
+// thread and stops (for profiling with perf).
 #include <omp.h>
 
 #include <chrono>
@@ -17,6 +20,7 @@
 #include <cstdio>
 #include <filesystem>
 #include <netcdf>
+#include <string>
 #include <vector>
 
 #include "cullcast/currents/current_field.hpp"
@@ -197,6 +201,10 @@ int main(int argc, char** argv) {
     std::printf("threads %d, %-34s %6.1f million particle-steps/s wall, %6.1f per CPU-second\n", threads, label,
                 particle_steps / busy / 1e6, particle_steps / cpu / 1e6);
   };
+  if (argc > 3 && std::string(argv[3]) == "only-production") {
+    measure(1, "production step (grid stepper):", true, s, clock);
+    return 0;
+  }
   for (int threads : {1, 2}) {
     measure(threads, "production step (grid stepper):", true, s, clock);
     measure(threads, "generic drift_step:", false, s, clock);

@@ -4,6 +4,7 @@
 #include <catch2/catch.hpp>
 
 #include <cmath>
+#include <cstring>
 #include <cstdio>
 #include <cstdlib>
 #include <filesystem>
@@ -101,7 +102,8 @@ struct Outcome {
 };
 
 Outcome run(bool grid, const fs::path& file, drift::ParticleSet p, drift::Scheme scheme, double kh,
-            const reefs::ReefSet& reef_set, std::uint32_t steps, const drift::EarthModel& earth) {
+            const reefs::ReefSet& reef_set, std::uint32_t steps, const drift::EarthModel& earth,
+            drift::VectorIsa isa = drift::GridStepper::instruction_sets().back()) {
   currents::CurrentField field = currents::CurrentField::open_files({file.string()});
   study::LarvaeSettings larvae;
   larvae.precompetent_days = 0.05;
@@ -116,6 +118,7 @@ Outcome run(bool grid, const fs::path& file, drift::ParticleSet p, drift::Scheme
   s.kh_m2_s = kh;
   s.scheme = scheme;
   drift::GridStepper stepper(field, earth);
+  stepper.use_instruction_set(isa);
   REQUIRE(drift::GridStepper::applies(field, p));
   std::vector<std::uint8_t> now;
   Outcome out;
@@ -210,5 +213,57 @@ TEST_CASE("grid stepper: uniform eastward current gives the exact displacement o
     CHECK(fast.p.lon[i] == Approx(expected).margin(1e-7 * (expected - 150.1)));
     CHECK(fast.p.lat[i] == Approx(start.lat[i]).margin(1e-12));
   }
+  fs::remove_all(dir);
+}
+
+TEST_CASE("grid stepper: every instruction set gives the same bits (no FMA contraction, IEEE operations only)") {
+  const fs::path dir = fs::temp_directory_path() / "cullcast-grid-stepper-isa";
+  const auto reef_set = one_reef(150.42, -20.0, 0.02);
+  const std::vector<drift::VectorIsa> sets = drift::GridStepper::instruction_sets();
+  INFO("instruction sets on this processor: " << sets.size());
+  // Fine grid (metric folded) and coarse WGS84 grid (metric per stage, with
+  // lanes leaving the rows), both with the random walk.
+  struct Case {
+    std::size_t nx, ny;
+    double lon0, lat0, step;  // grid
+    double start_lon, start_lat, span;  // particles
+    drift::EarthModel earth;
+  };
+  for (const Case& c : {Case{81, 61, 150.0, -20.3, 0.01, 150.05, -20.25, 0.5, drift::EarthModel::sphere(6371000.0)},
+                        Case{41, 31, 140.0, -40.0, 1.0, 140.2, -39.8, 39.7, drift::EarthModel::wgs84()}}) {
+    const fs::path file = write_flow(dir, c.nx, c.ny, c.lon0, c.lat0, c.step);
+    const auto start = grid_of_particles(c.start_lon, c.start_lat, c.span, 30);
+    const Outcome base = run(true, file, start, drift::Scheme::rk4, 50.0, reef_set, 40, c.earth,
+                             drift::VectorIsa::baseline);
+    for (const drift::VectorIsa isa : sets) {
+      INFO("instruction set " << drift::GridStepper::isa_name(isa) << ", grid step " << c.step);
+      const Outcome other = run(true, file, start, drift::Scheme::rk4, 50.0, reef_set, 40, c.earth, isa);
+      REQUIRE(other.steps == base.steps);
+      std::size_t differ = 0;
+      for (std::size_t i = 0; i < base.p.size(); ++i) {
+        differ += std::memcmp(&base.p.lon[i], &other.p.lon[i], sizeof(double)) != 0 ||
+                  std::memcmp(&base.p.lat[i], &other.p.lat[i], sizeof(double)) != 0 ||
+                  base.p.weight[i] != other.p.weight[i] || base.p.fate[i] != other.p.fate[i] ||
+                  base.p.reef[i] != other.p.reef[i];
+      }
+      CHECK(differ == 0);
+    }
+  }
+  fs::remove_all(dir);
+}
+
+TEST_CASE("grid stepper: CULLCAST_VECTOR_ISA caps the instruction set and rejects unknown names") {
+  const fs::path dir = fs::temp_directory_path() / "cullcast-grid-stepper-isa-env";
+  const fs::path file = write_flow(dir, 21, 21, 150.0, -20.3, 0.01);
+  currents::CurrentField field = currents::CurrentField::open_files({file.string()});
+  const auto earth = drift::EarthModel::sphere(6371000.0);
+  ::setenv("CULLCAST_VECTOR_ISA", "baseline", 1);
+  CHECK(drift::GridStepper(field, earth).instruction_set() == drift::VectorIsa::baseline);
+  ::setenv("CULLCAST_VECTOR_ISA", "avx512", 1);  // a cap, not a demand: never above what the processor has
+  CHECK(drift::GridStepper(field, earth).instruction_set() == drift::GridStepper::instruction_sets().back());
+  ::setenv("CULLCAST_VECTOR_ISA", "sse9", 1);
+  CHECK_THROWS_WITH(drift::GridStepper(field, earth),
+                    Catch::Contains("CULLCAST_VECTOR_ISA") && Catch::Contains("expected baseline, avx2 or avx512"));
+  ::unsetenv("CULLCAST_VECTOR_ISA");
   fs::remove_all(dir);
 }

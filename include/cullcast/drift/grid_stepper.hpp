@@ -11,7 +11,10 @@
 //    sine and cosine of each row's latitude are tabulated, so the factor at
 //    a particle is a short Taylor step from its row (no library call);
 //  - the random walk's Box–Muller uses the inline log and sin/cos of
-//    plain_math.hpp.
+//    plain_math.hpp;
+//  - particles go through the step in batches whose every loop is vector
+//    instructions (src/drift/grid_lanes.hpp), compiled for baseline x86-64,
+//    AVX2 and AVX-512 and chosen at run time, with the same bits on each.
 // The results equal drift_step()'s up to floating-point rounding (the order
 // of interpolation differs), which the tests bound.
 #include <cstdint>
@@ -23,13 +26,26 @@
 
 namespace cullcast::drift {
 
+// Instruction sets the stepper's kernel is compiled for (src/drift/grid_lanes.hpp).
+enum class VectorIsa { baseline, avx2, avx512 };
+
 class GridStepper {
  public:
+  // The instruction sets this processor can run, narrowest first.
+  static std::vector<VectorIsa> instruction_sets();
+  static const char* isa_name(VectorIsa isa) noexcept;
+
   // True when this path applies: a regular grid with uniform lon and lat
   // spacing (at most 2 degrees), and every particle of the set at one depth.
   static bool applies(const currents::CurrentField& field, const ParticleSet& particles);
 
+  // Uses the widest instruction set available, capped by the environment
+  // variable CULLCAST_VECTOR_ISA (InputError when it names none of them).
   GridStepper(const currents::CurrentField& field, const EarthModel& earth);
+
+  VectorIsa instruction_set() const noexcept { return isa_; }
+  // Another instruction set from instruction_sets() (tests compare them).
+  void use_instruction_set(VectorIsa isa) noexcept { isa_ = isa; }
 
   // One step, with drift_step()'s contract. The field must be prepared for
   // [event_start + step·dt, event_start + (step+1)·dt].
@@ -40,7 +56,9 @@ class GridStepper {
  private:
   const currents::CurrentField& field_;
   const EarthModel& earth_;
+  VectorIsa isa_ = VectorIsa::baseline;
   std::vector<float> stage_uv_[3];         // (u, v) at the stage times t0, t0 + dt/2, t0 + dt
+  std::vector<std::int32_t> wet_;          // the top level's water mask, one word per node
   std::vector<double> row_sin_, row_cos_;  // sine and cosine of each row's latitude
   // Fine grids: the slices hold degrees/s (the metric folded in per row).
   bool folded_ = false;

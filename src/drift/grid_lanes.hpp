@@ -1,0 +1,290 @@
+#pragma once
+// The grid stepper's kernel: one batch of kLanes particles moved through a
+// whole step (RK stages, random walk, where it ended) with every loop running
+// over the full batch width, free of calls and branches, so the compiler
+// turns each into vector instructions. grid_stepper.cpp compiles it once per
+// instruction set (baseline x86-64, AVX2, AVX-512) and picks one at run time;
+// with no fused multiply-add contraction (CMakeLists.txt) and only IEEE
+// operations (+ − × ÷ √, conversions), every variant gives the same bits.
+//
+// Each lane computes exactly what the scalar code it replaced computed, in
+// the same order, so results do not depend on the batching either.
+#include <bit>
+#include <cmath>
+#include <cstdint>
+#include <cstring>
+
+#include "cullcast/base/random.hpp"
+#include "cullcast/drift/integrator.hpp"
+
+namespace cullcast::drift::lanes {
+
+constexpr int kLanes = 16;
+constexpr double kRad = 3.14159265358979323846 / 180.0;
+
+// The grid as the kernel needs it (copied out of the FlowSampler once per step).
+struct Grid {
+  double lon0, lat0;          // first node, degrees
+  double inv_dlon, inv_dlat;  // nodes per degree
+  double gx_max, gy_max;      // last node index, as doubles
+  std::int32_t nx, ny;        // nodes (2·nx·ny < 2^31: GridStepper::applies)
+  const std::int32_t* wet;    // top level, 1 = wet, 0 = land (32-bit: loads the compiler can gather)
+  const double* row_sin;      // sine and cosine of each row's latitude
+  const double* row_cos;
+  double dlat;                // degrees between rows
+  // Earth model (earth_model.hpp): e², 1/(a·rad), and the factors of the
+  // sphere's and the ellipsoid's north metric.
+  double e2, inv_a_rad, north_sphere, north_ellipsoid;
+  // Fine grids: the slices hold degrees/s; metres per degree at each row
+  // turn them back into speeds for the Courant check.
+  bool folded;
+  const double* row_m_per_deg_lon;
+  const double* row_m_per_deg_lat;
+};
+
+// What one step needs besides the grid.
+struct StepPlan {
+  const float* uv0;   // stage slices at t0, t0 + dt/2, t0 + dt (interleaved u, v)
+  const float* mid;
+  const float* end;
+  Scheme scheme;
+  double dt_s;        // seconds
+  double walk_m;      // one standard deviation of the random walk per axis, metres (0: none)
+  const CounterRandom* rng;
+  std::uint32_t event, step;
+};
+
+// Where a lane ended its step (CurrentField::status's rule: nearest node's mask).
+enum Where : std::int32_t { kWater = 0, kLand = 1, kOutside = 2 };
+
+// One batch. Lanes at or past the batch's count repeat lane 0 (the kernel
+// always runs the full width; their results are ignored).
+struct Batch {
+  alignas(64) double lon0[kLanes];  // position at the step's start, degrees
+  alignas(64) double lat0[kLanes];
+  alignas(64) double lon[kLanes];   // position at its end (written by the kernel)
+  alignas(64) double lat[kLanes];
+  alignas(64) double speed[kLanes];  // largest stage speed, m/s (written)
+  alignas(64) std::uint32_t source[kLanes];
+  alignas(64) std::uint32_t particle[kLanes];
+  alignas(64) std::int32_t where[kLanes];  // Where (written)
+};
+
+// floor(q) for |q| < 2^51 by rounding through 1.5·2^52: plain double
+// arithmetic, so it vectorises on any x86-64 (std::floor needs SSE4.1).
+inline double floor_by_rounding(double q) noexcept {
+  const double r = (q + 0x1.8p52) - 0x1.8p52;  // nearest integer
+  return r - (r > q ? 1.0 : 0.0);
+}
+
+// Fractional node coordinates (cx, cy) of a position, clamped to (0, 0)
+// outside the grid (also for NaN); `inside` says which. Conditions are
+// combined with & and | (not && and ||) so the loop stays free of branches.
+inline void cell(const Grid& g, double lon, double lat, double& cx, double& cy, bool& inside) noexcept {
+  double x = lon - g.lon0;
+  const double wrapped = x - 360.0 * floor_by_rounding(x / 360.0);
+  x = ((x < 0.0) | (x >= 360.0)) ? wrapped : x;
+  const double gx = x * g.inv_dlon, gy = (lat - g.lat0) * g.inv_dlat;
+  inside = (gx <= g.gx_max) & (gy >= 0.0) & (gy <= g.gy_max);
+  cx = inside ? gx : 0.0;
+  cy = inside ? gy : 0.0;
+}
+
+// `value` where `keep`, else +0.0, as bit operations: a select the compiler
+// could turn back into a branch around the loads feeding `value`, which
+// would keep the loop from vectorising.
+inline double keep_or_zero(bool keep, double value) noexcept {
+  const std::uint64_t mask = 0 - static_cast<std::uint64_t>(keep);
+  return std::bit_cast<double>(std::bit_cast<std::uint64_t>(value) & mask);
+}
+
+// The (u, v) floats of the node at uv[k] as one 64-bit word, and back.
+inline std::uint64_t node_pair(const float* uv, std::uint32_t k) noexcept {
+  std::uint64_t pair;
+  std::memcpy(&pair, uv + k, sizeof pair);
+  return pair;
+}
+inline float low_float(std::uint64_t pair) noexcept {  // the first float in memory (x86-64 is little-endian)
+  return std::bit_cast<float>(static_cast<std::uint32_t>(pair));
+}
+inline float high_float(std::uint64_t pair) noexcept {
+  return std::bit_cast<float>(static_cast<std::uint32_t>(pair >> 32));
+}
+
+// Velocity of every lane at (xs, ys) from one stage slice, bilinear in space,
+// 0 outside the grid (as CurrentField::sample()); `row` gets the cell's row.
+[[gnu::always_inline]] inline void velocity(const Grid& g, const float* uv, const double* __restrict xs,
+                                            const double* __restrict ys, double* __restrict u,
+                                            double* __restrict v, std::uint32_t* __restrict row) noexcept {
+  const Grid local = g;  // a copy the stores below cannot alias (keeps it in registers)
+  const std::int32_t i_max = local.nx - 2, j_max = local.ny - 2;
+  const auto nx = static_cast<std::uint32_t>(local.nx);
+  for (int l = 0; l < kLanes; ++l) {
+    double cx, cy;
+    bool inside;
+    cell(local, xs[l], ys[l], cx, cy, inside);
+    std::int32_t i = static_cast<std::int32_t>(cx), j = static_cast<std::int32_t>(cy);
+    i = i > i_max ? i_max : i;
+    j = j > j_max ? j_max : j;
+    const double fx = cx - static_cast<double>(i), fy = cy - static_cast<double>(j);
+    // Unsigned 32-bit offsets: they widen to addresses without SSE4.1.
+    const std::uint32_t k = 2 * (static_cast<std::uint32_t>(j) * nx + static_cast<std::uint32_t>(i)),
+                        k2 = k + 2 * nx;
+    const double w00 = (1 - fx) * (1 - fy), w10 = fx * (1 - fy), w01 = (1 - fx) * fy, w11 = fx * fy;
+    // Each node's (u, v) read as one 64-bit word: half as many gathers.
+    const std::uint64_t n00 = node_pair(uv, k), n10 = node_pair(uv, k + 2), n01 = node_pair(uv, k2),
+                        n11 = node_pair(uv, k2 + 2);
+    const double uu = w00 * low_float(n00) + w10 * low_float(n10) + w01 * low_float(n01) + w11 * low_float(n11);
+    const double vv = w00 * high_float(n00) + w10 * high_float(n10) + w01 * high_float(n01) + w11 * high_float(n11);
+    u[l] = keep_or_zero(inside, uu);
+    v[l] = keep_or_zero(inside, vv);
+    row[l] = static_cast<std::uint32_t>(j);
+  }
+}
+
+// Degrees per metre east and north of the Earth model at sin/cos of a latitude.
+template <bool Sphere>
+inline void metric_from(const Grid& g, double s, double c, double& east, double& north) noexcept {
+  if constexpr (Sphere) {
+    north = g.north_sphere;
+    east = g.north_sphere / c;
+  } else {
+    const double w = 1.0 - g.e2 * s * s, root = std::sqrt(w);
+    north = w * root * g.north_ellipsoid;
+    east = root * g.inv_a_rad / c;
+  }
+}
+
+// Degrees per metre east and north at every lane's latitude: from the
+// nearest tabulated row by a Taylor step (|d| <= half a row, at most 1
+// degree: the truncation error of the series is under 1e-16 there). A lane
+// beyond the grid's rows (a particle on its way out) gets the library's
+// sine and cosine in a scalar pass afterwards.
+template <bool Sphere>
+[[gnu::always_inline]] inline void metric_lanes(const Grid& g, const double* lat, double* east,
+                                                double* north) noexcept {
+  const Grid local = g;
+  std::int32_t far[kLanes];
+  for (int l = 0; l < kLanes; ++l) {
+    double r = (lat[l] - local.lat0) * local.inv_dlat + 0.5;
+    r = r >= 0.0 ? (r > local.gy_max ? local.gy_max : r) : 0.0;  // also NaN -> 0
+    const auto j = static_cast<std::int32_t>(r);                 // nearest row
+    const double d = (lat[l] - (local.lat0 + static_cast<double>(j) * local.dlat)) * kRad;
+    const double d2 = d * d;
+    const double cd = 1 - d2 * (0.5 - d2 * (1.0 / 24 - d2 * (1.0 / 720 - d2 * (1.0 / 40320))));
+    const double sd = d * (1 - d2 * (1.0 / 6 - d2 * (1.0 / 120 - d2 * (1.0 / 5040 - d2 * (1.0 / 362880)))));
+    const double rs = local.row_sin[j], rc = local.row_cos[j];
+    const double s = rs * cd + rc * sd;
+    const double c = rc * cd - rs * sd;
+    far[l] = std::fabs(d) <= 0.0175 ? 0 : 1;
+    metric_from<Sphere>(local, s, c, east[l], north[l]);
+  }
+  for (int l = 0; l < kLanes; ++l) {
+    if (far[l]) metric_from<Sphere>(local, std::sin(lat[l] * kRad), std::cos(lat[l] * kRad), east[l], north[l]);
+  }
+}
+
+[[gnu::always_inline]] inline void metric(const Grid& g, const double* lat, double* east, double* north) noexcept {
+  if (g.e2 == 0.0) {
+    metric_lanes<true>(g, lat, east, north);
+  } else {
+    metric_lanes<false>(g, lat, east, north);
+  }
+}
+
+// dx/dt (degrees per second) of every lane at (xs, ys) from one stage slice;
+// keeps each lane's largest speed (m/s).
+[[gnu::always_inline]] inline void rates(const Grid& g, const float* uv, const double* __restrict xs,
+                                         const double* __restrict ys, double* __restrict ka, double* __restrict kb,
+                                         double* __restrict speed) noexcept {
+  std::uint32_t row[kLanes];
+  velocity(g, uv, xs, ys, ka, kb, row);
+  if (g.folded) {  // slices already in degrees per second
+    const double* m_lon = g.row_m_per_deg_lon;
+    const double* m_lat = g.row_m_per_deg_lat;
+    for (int l = 0; l < kLanes; ++l) {
+      const double sp = std::fabs(ka[l]) * m_lon[row[l]] + std::fabs(kb[l]) * m_lat[row[l]];
+      speed[l] = sp > speed[l] ? sp : speed[l];
+    }
+    return;
+  }
+  double east[kLanes], north[kLanes];
+  metric(g, ys, east, north);
+  for (int l = 0; l < kLanes; ++l) {
+    const double sp = std::fabs(ka[l]) + std::fabs(kb[l]);
+    speed[l] = sp > speed[l] ? sp : speed[l];
+    ka[l] *= east[l];
+    kb[l] *= north[l];
+  }
+}
+
+// Water, land or outside for every lane's end position.
+[[gnu::always_inline]] inline void where(const Grid& g, Batch& b) noexcept {
+  const Grid local = g;
+  const std::int32_t i_max = local.nx - 2, j_max = local.ny - 2;
+  const auto nx = static_cast<std::uint32_t>(local.nx);
+  for (int l = 0; l < kLanes; ++l) {
+    double cx, cy;
+    bool inside;
+    cell(local, b.lon[l], b.lat[l], cx, cy, inside);
+    std::int32_t i = static_cast<std::int32_t>(cx), j = static_cast<std::int32_t>(cy);
+    i = i > i_max ? i_max : i;
+    j = j > j_max ? j_max : j;
+    const std::int32_t in = i + (cx - static_cast<double>(i) > 0.5 ? 1 : 0);
+    const std::int32_t jn = j + (cy - static_cast<double>(j) > 0.5 ? 1 : 0);
+    const std::int32_t wet = local.wet[static_cast<std::uint32_t>(jn) * nx + static_cast<std::uint32_t>(in)];
+    const std::int32_t on_grid = wet != 0 ? kWater : kLand;
+    b.where[l] = inside ? on_grid : kOutside;
+  }
+}
+
+// The whole step of one batch: the scheme's stages, then the random walk
+// (Gaussian steps of walk_m per axis, the particle's own stream), then where
+// each lane ended.
+[[gnu::always_inline]] inline void advance(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
+  double ka[kLanes], kb[kLanes], sum_a[kLanes], sum_b[kLanes], x[kLanes], y[kLanes];
+  for (int l = 0; l < kLanes; ++l) b.speed[l] = 0;
+  const double dt = plan.dt_s, h = 0.5 * plan.dt_s;
+  rates(g, plan.uv0, b.lon0, b.lat0, ka, kb, b.speed);
+  if (plan.scheme == Scheme::rk4) {
+    for (int l = 0; l < kLanes; ++l) {
+      sum_a[l] = ka[l], sum_b[l] = kb[l];
+      x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
+    }
+    rates(g, plan.mid, x, y, ka, kb, b.speed);
+    for (int l = 0; l < kLanes; ++l) {
+      sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
+      x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
+    }
+    rates(g, plan.mid, x, y, ka, kb, b.speed);
+    for (int l = 0; l < kLanes; ++l) {
+      sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
+      x[l] = b.lon0[l] + dt * ka[l], y[l] = b.lat0[l] + dt * kb[l];
+    }
+    rates(g, plan.end, x, y, ka, kb, b.speed);
+    const double w = dt / 6.0;
+    for (int l = 0; l < kLanes; ++l) {
+      b.lon[l] = b.lon0[l] + w * (sum_a[l] + ka[l]);
+      b.lat[l] = b.lat0[l] + w * (sum_b[l] + kb[l]);
+    }
+  } else if (plan.scheme == Scheme::rk2) {
+    for (int l = 0; l < kLanes; ++l) x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
+    rates(g, plan.mid, x, y, ka, kb, b.speed);
+    for (int l = 0; l < kLanes; ++l) b.lon[l] = b.lon0[l] + dt * ka[l], b.lat[l] = b.lat0[l] + dt * kb[l];
+  } else {
+    for (int l = 0; l < kLanes; ++l) b.lon[l] = b.lon0[l] + dt * ka[l], b.lat[l] = b.lat0[l] + dt * kb[l];
+  }
+  if (plan.walk_m > 0) {
+    double z0[kLanes], z1[kLanes], east[kLanes], north[kLanes];
+    plan.rng->normal2_batch(plan.event, b.source, b.particle, kLanes, plan.step, Draw::diffusion, z0, z1);
+    metric(g, b.lat, east, north);
+    const double walk = plan.walk_m;
+    for (int l = 0; l < kLanes; ++l) {
+      b.lon[l] += z0[l] * walk * east[l];
+      b.lat[l] += z1[l] * walk * north[l];
+    }
+  }
+  where(g, b);
+}
+
+}  // namespace cullcast::drift::lanes
