@@ -175,13 +175,27 @@ struct DriftTeam::Desk {
   drift::BatchQueue queue;
   std::vector<std::size_t> batches_to, chunks_to;  // per rank
   int told_no_more = 0;                            // helpers answered "no more"
+  std::vector<double> idle_from;                   // per rank: seconds from the queue's start to "no more"
+  std::chrono::steady_clock::time_point start = std::chrono::steady_clock::now();
   std::size_t first_queued = 0, batch_count = 0;
   double queued_fraction = 0;                      // of the estimated cost
 
+  // Chunks of at least a quarter of one rank's fair part of the queue: every
+  // chunk costs its rank one more sweep over the event's currents frames
+  // (about 0.33 CPU-seconds on the demo study, as much as stepping some 1,000
+  // larvae through the event), so the last chunks must not shrink to single
+  // batches of a few hundred larvae (docs/scaling.md).
+  static double floor_for(const std::vector<drift::ReleaseBatch>& all, std::size_t first, int size) {
+    double queued = 0;
+    for (std::size_t i = first; i < all.size(); ++i) queued += all[i].cost();
+    return queued / (4.0 * size);
+  }
+
   Desk(const std::vector<drift::ReleaseBatch>& all, std::size_t first, int size)
-      : queue(all, first, static_cast<std::size_t>(size)),
+      : queue(all, first, static_cast<std::size_t>(size), floor_for(all, first, size)),
         batches_to(static_cast<std::size_t>(size), 0),
         chunks_to(static_cast<std::size_t>(size), 0),
+        idle_from(static_cast<std::size_t>(size), 0.0),
         first_queued(first),
         batch_count(all.size()) {}
 
@@ -190,6 +204,9 @@ struct DriftTeam::Desk {
     if (c) {
       batches_to[static_cast<std::size_t>(rank)] += c->second - c->first;
       chunks_to[static_cast<std::size_t>(rank)] += 1;
+    } else {
+      idle_from[static_cast<std::size_t>(rank)] =
+          std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
     }
     return c;
   }
@@ -351,6 +368,10 @@ std::string DriftTeam::queue_report() const {
     o << (r ? "," : "") << " rank " << r << " " << desk_->batches_to[r] << " batches / " << desk_->chunks_to[r]
       << " chunks";
   }
+  // How evenly the ranks ran out of work: the balance the queue achieved.
+  const auto [first, last] = std::minmax_element(desk_->idle_from.begin(), desk_->idle_from.end());
+  o.precision(2);
+  o << "; ranks ran out of work within " << std::fixed << *last - *first << " s of each other";
   return o.str();
 }
 

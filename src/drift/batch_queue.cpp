@@ -25,8 +25,12 @@ std::size_t queue_start(const std::vector<ReleaseBatch>& batches, double static_
   return batches.size();
 }
 
-BatchQueue::BatchQueue(std::vector<ReleaseBatch> batches, std::size_t first, std::size_t processes)
-    : batches_(std::move(batches)), next_(std::min(first, batches_.size())), processes_(std::max<std::size_t>(1, processes)) {
+BatchQueue::BatchQueue(std::vector<ReleaseBatch> batches, std::size_t first, std::size_t processes,
+                       double min_chunk_cost)
+    : batches_(std::move(batches)),
+      next_(std::min(first, batches_.size())),
+      processes_(std::max<std::size_t>(1, processes)),
+      min_chunk_cost_(std::max(0.0, min_chunk_cost)) {
   after_.assign(batches_.size() + 1, 0.0);
   for (std::size_t i = batches_.size(); i-- > 0;) after_[i] = after_[i + 1] + batches_[i].cost();
 }
@@ -35,7 +39,7 @@ double BatchQueue::cost_left() const { return after_[next_]; }
 
 std::optional<std::pair<std::size_t, std::size_t>> BatchQueue::take() {
   if (next_ >= batches_.size()) return std::nullopt;
-  const double target = cost_left() / (2.0 * static_cast<double>(processes_));
+  const double target = std::max(cost_left() / (2.0 * static_cast<double>(processes_)), min_chunk_cost_);
   const std::size_t first = next_;
   std::size_t last = first + 1;  // at least one batch, whatever its cost
   while (last < batches_.size() && batches_[last].event == batches_[first].event &&

@@ -70,6 +70,18 @@ TEST_CASE("BatchQueue: chunks of remaining cost / (2 x processes), by hand", "[d
   CHECK(got == std::vector<Range>{{4, 10}, {10, 13}, {13, 14}, {14, 15}, {15, 16}});
 }
 
+TEST_CASE("BatchQueue: chunks no smaller than the floor while the event has enough", "[drift][share]") {
+  // Two events of 8 equal batches (cost 10 each), 2 processes, floor 30: the
+  // targets are max(160/4, 30) = 40 (4 batches), max(120/4, 30) = 30 (3),
+  // then the event's last batch alone (the floor never crosses an event);
+  // event 2: max(80/4, 30) = 30 (3), max(50/4, 30) = 30 (3), then the last 2.
+  BatchQueue q(batches_of(std::vector<std::uint64_t>(16, 1), 8), 0, 2, 30.0);
+  using Range = std::pair<std::size_t, std::size_t>;
+  std::vector<Range> got;
+  while (const auto c = q.take()) got.push_back(*c);
+  CHECK(got == std::vector<Range>{{0, 4}, {4, 7}, {7, 8}, {8, 11}, {11, 14}, {14, 16}});
+}
+
 TEST_CASE("BatchQueue: chunks cover the tail once, in order, never across an event", "[drift][share]") {
   // Uneven costs over 5 events of 7 sources; 3 processes; the tail from batch 9.
   std::vector<std::uint64_t> particles;
