@@ -120,6 +120,7 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
                                [&](const drift::DriftProgress& p) { display(p); },
                                team.share(study, sources.size()), checkpoint);
     display.finish();
+    if (!ctx.quiet && root && !team.queue_report().empty()) ctx.out << "  " << team.queue_report() << "\n";
   } catch (const InputError& e) {
     if (team.size() == 1) throw;
     team.fail(std::string("error: ") + e.what(), static_cast<int>(ExitCode::bad_input));

@@ -1,16 +1,25 @@
 #pragma once
 // The drift stage shared by the processes of an MPI job
 // (`mpirun -np N cullcast disperse|run SCENARIO`, docs/scaling.md): each rank
-// drifts a contiguous, cost-balanced share of the release batches
-// (drift/drift_share.hpp); after the drift, each event's records and fates go
-// to rank 0, which merges them into the single-process order and alone writes
-// the outputs. A rank that fails prints why and stops the whole job
-// (MPI_Abort) before anything is written.
+// drifts a contiguous, cost-balanced share of most of the release batches
+// (drift/drift_share.hpp); rank 0 hands out the rest on request
+// (drift/batch_queue.hpp), so ranks whose share ran faster than estimated
+// take more. After the drift, each event's records and fates go to rank 0,
+// which merges them into the single-process order and alone writes the
+// outputs. A rank that fails prints why and stops the whole job (MPI_Abort)
+// before anything is written.
+//
+// Environment (read by rank 0 and broadcast, so every rank splits alike):
+//   CULLCAST_MPI_STATIC_SHARE  share of the estimated cost split statically,
+//                              0..1 (default 0.75; 1 = no queue).
+// Test-only: CULLCAST_TEST_FAIL_QUEUED=R makes rank R fail when it receives
+// its first queued chunk (tests/mpi/run_mpi_drift.py).
 //
 // Built with -DCULLCAST_MPI=ON only; without it, a program that an MPI
 // launcher started more than once stops with a message rather than letting N
 // copies each do the whole run.
 #include <cstddef>
+#include <memory>
 #include <string>
 
 #include "cullcast/drift/drift_share.hpp"
@@ -37,10 +46,14 @@ class DriftTeam {
   int size() const { return size_; }
   bool root() const { return rank_ == 0; }
 
-  // This process's share of the drift; with one process, every batch.
-  drift::DriftShare share(const study::Study& study, std::size_t source_count) const;
+  // This process's share of the drift; with one process, every batch. With
+  // more, the static part and the queue's callbacks (call once per run).
+  drift::DriftShare share(const study::Study& study, std::size_t source_count);
   // One line for the root's summary: how the batches were split.
   std::string describe(const study::Study& study, std::size_t source_count) const;
+  // After the drift, on rank 0: how many batches the queue handed to each rank
+  // ("queue: ... rank R B batches / C chunks"); empty without a queue.
+  std::string queue_report() const;
   // Empty, or why this rank's threads share too few cores (mpirun binds each
   // rank to one core by default, whatever OMP_NUM_THREADS says).
   std::string binding_warning() const;
@@ -50,8 +63,13 @@ class DriftTeam {
   void finish();  // leaves the job once every rank's share is merged
 
  private:
+  struct Desk;  // rank 0's side of the queue (distributed_drift.cpp)
+
   int rank_ = 0, size_ = 1;
   bool joined_ = false;
+  double static_share_ = 1.0;  // CULLCAST_MPI_STATIC_SHARE as rank 0 read it; NaN if invalid
+  std::string static_share_text_;
+  std::shared_ptr<Desk> desk_;
 };
 
 }  // namespace cullcast::cli

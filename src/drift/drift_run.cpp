@@ -348,16 +348,31 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
   std::vector<EventOutcome> held;          // with an exchange: outcomes until every event is drifted
   std::vector<double> held_seconds;
   std::vector<std::uint8_t> settled_now;
-  for (std::size_t e = first_event; e < study.spawning.size(); ++e) {
+  // This process's static batches event by event; then, with a queue, each
+  // chunk it is handed (an event's batches again, drifted on their own).
+  std::size_t next_event = first_event;
+  std::optional<QueuedChunk> chunk;
+  while (true) {
+    chunk.reset();
+    if (next_event >= study.spawning.size()) {
+      if (streaming || !share.next_chunk || !(chunk = share.next_chunk())) break;
+      if (chunk->event >= study.spawning.size()) {
+        throw std::logic_error("run_drift: a queued chunk of event " + std::to_string(chunk->event + 1) +
+                               " for a study of " + std::to_string(study.spawning.size()));
+      }
+    }
+    const std::size_t e = chunk ? chunk->event : next_event++;
     const auto& event = study.spawning[e];
     const auto event_start = Clock::now();
     step.event = static_cast<std::uint32_t>(e);
     step.event_start_s = calendar.to_seconds(event.start);
     EventOutcome out;
     out.fates.assign(sources.size(), FateCounts{});
-    const std::vector<std::uint32_t> mine = share.sources_of(e, sources.size());
+    const std::vector<std::uint32_t> mine = chunk ? chunk->sources : share.sources_of(e, sources.size());
     if (mine.empty()) {  // nothing of this event here: no currents read for it
-      if (streaming) {
+      if (chunk) {
+        // an empty chunk adds nothing
+      } else if (streaming) {
         finish_event(e, out, 0);
       } else {
         held.push_back(std::move(out));
@@ -409,6 +424,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
           : on_grid    ? grid_stepper.step(p, k, step, clock, lookup, rng, settled_now)
                        : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
       if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);
+      if (share.poll) share.poll();
       out.particle_steps += tally.particle_steps;
       out.land_contacts += tally.land_contacts;
       out.max_speed_m_s = std::max(out.max_speed_m_s, tally.max_speed_m_s);
@@ -481,6 +497,9 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     }
     if (streaming) {
       finish_event(e, out, seconds_since(event_start));
+    } else if (chunk) {  // every event has its outcome held by now
+      merge_outcome(held.at(e), out);
+      held_seconds.at(e) += seconds_since(event_start);
     } else {
       held.push_back(std::move(out));
       held_seconds.push_back(seconds_since(event_start));

@@ -13,6 +13,7 @@
 
 #include "../support/cf_axes.hpp"
 #include "cullcast/currents/current_field.hpp"
+#include "cullcast/drift/batch_queue.hpp"
 #include "cullcast/drift/drift_run.hpp"
 #include "cullcast/drift/earth_model.hpp"
 #include "cullcast/reefs/reef_set.hpp"
@@ -100,6 +101,25 @@ drift::DriftSummary run(const study::Study& s) {
   const auto reef_set = reefs::ReefSet::load(s.reefs);
   const auto sources = reefs::release_sources(reef_set, s);
   return drift::run_drift(s, field, reef_set, sources);
+}
+
+// Three reefs on one line of the eastward flow: larvae of WEST (19 km, 52 h)
+// and of MID (14 km, 38 h) both reach EAST when competent (> 1 day), so
+// their records interleave step by step; the random walk spreads them. Two
+// spawning events.
+study::Study three_reefs_in_line(const Workspace& w) {
+  std::ofstream(w.dir / "reefs.geojson") << R"({"type":"FeatureCollection","features":[
+{"type":"Feature","properties":{"id":"WEST","name":"West Test Reef","priority":0.2},
+ "geometry":{"type":"Polygon","coordinates":[[[150.05,-20.12],[150.07,-20.12],[150.07,-20.08],[150.05,-20.08],[150.05,-20.12]]]}},
+{"type":"Feature","properties":{"id":"MID","name":"Middle Test Reef","priority":0.5},
+ "geometry":{"type":"Polygon","coordinates":[[[150.12,-20.11],[150.14,-20.11],[150.14,-20.09],[150.12,-20.09],[150.12,-20.11]]]}},
+{"type":"Feature","properties":{"id":"EAST","name":"East Test Reef","priority":0.9},
+ "geometry":{"type":"Polygon","coordinates":[[[150.25,-20.15],[150.27,-20.15],[150.27,-20.05],[150.25,-20.05],[150.25,-20.15]]]}}
+]})";
+  study::Study s = w.study("[[spawning]]\nstart = \"2026-12-01T12:00:00Z\"\nhours = 3\nlarvae_per_reef = 150\n");
+  s.motion.kh_m2_s = 20;
+  s.larvae.mortality_per_day = 0.2;
+  return s;
 }
 
 }  // namespace
@@ -193,21 +213,8 @@ TEST_CASE("events beyond the currents' time span are refused before any output")
 }
 
 TEST_CASE("a drift shared between processes merges to the single-process records, bit for bit") {
-  // Three reefs on one line of the eastward flow: larvae of WEST (19 km, 52 h)
-  // and of MID (14 km, 38 h) both reach EAST when competent (> 1 day), so
-  // their records interleave step by step; the random walk spreads them.
   Workspace w;
-  std::ofstream(w.dir / "reefs.geojson") << R"({"type":"FeatureCollection","features":[
-{"type":"Feature","properties":{"id":"WEST","name":"West Test Reef","priority":0.2},
- "geometry":{"type":"Polygon","coordinates":[[[150.05,-20.12],[150.07,-20.12],[150.07,-20.08],[150.05,-20.08],[150.05,-20.12]]]}},
-{"type":"Feature","properties":{"id":"MID","name":"Middle Test Reef","priority":0.5},
- "geometry":{"type":"Polygon","coordinates":[[[150.12,-20.11],[150.14,-20.11],[150.14,-20.09],[150.12,-20.09],[150.12,-20.11]]]}},
-{"type":"Feature","properties":{"id":"EAST","name":"East Test Reef","priority":0.9},
- "geometry":{"type":"Polygon","coordinates":[[[150.25,-20.15],[150.27,-20.15],[150.27,-20.05],[150.25,-20.05],[150.25,-20.15]]]}}
-]})";
-  study::Study s = w.study("[[spawning]]\nstart = \"2026-12-01T12:00:00Z\"\nhours = 3\nlarvae_per_reef = 150\n");
-  s.motion.kh_m2_s = 20;
-  s.larvae.mortality_per_day = 0.2;
+  study::Study s = three_reefs_in_line(w);
   currents::CurrentField field = currents::CurrentField::open(s.currents);
   const auto reef_set = reefs::ReefSet::load(s.reefs);
   const auto sources = reefs::release_sources(reef_set, s);
@@ -275,4 +282,99 @@ TEST_CASE("a drift shared between processes merges to the single-process records
   CHECK(merged.particle_steps == whole.particle_steps);
   CHECK(merged.records == whole.records);
   CHECK(merged.max_courant == whole.max_courant);
+}
+
+TEST_CASE("batches handed out by a queue, in chunks of any grouping, merge to the single-process records") {
+  // As above, with two "processes" whose static parts are batches 1 and 2
+  // of 6 (event 1, WEST and MID); a BatchQueue hands out the other 4 one at a
+  // time: the helper takes the 1st and the 4th (EAST of both events), the root
+  // the 2nd and 3rd: WEST and MID of event 2 as two chunks, drifted one after
+  // the other, whose records interleave step by step and must be merged.
+  Workspace w;
+  study::Study s = three_reefs_in_line(w);
+  currents::CurrentField field = currents::CurrentField::open(s.currents);
+  const auto reef_set = reefs::ReefSet::load(s.reefs);
+  const auto sources = reefs::release_sources(reef_set, s);
+  omp_set_num_threads(1);
+  const drift::DriftSummary whole = drift::run_drift(s, field, reef_set, sources);
+  const auto expected = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
+  std::ifstream csv_in(s.outputs.dir / "settlement.csv");
+  const std::string expected_csv((std::istreambuf_iterator<char>(csv_in)), std::istreambuf_iterator<char>());
+  REQUIRE(expected.records.size() > 100);
+  fs::remove_all(s.outputs.dir);
+
+  const auto batches = drift::list_batches(s, sources.size());
+  REQUIRE(batches.size() == 6);
+  const std::size_t queued_from = drift::queue_start(batches, 2.0 / 6.0);  // equal costs: after 2 batches
+  REQUIRE(queued_from == 2);
+  drift::BatchQueue queue(batches, queued_from, 2);
+  std::vector<drift::QueuedChunk> for_root;
+  std::size_t helper_chunks = 0;
+  auto to_chunk = [&](std::pair<std::size_t, std::size_t> r) {
+    drift::QueuedChunk c;
+    c.event = batches[r.first].event;
+    for (std::size_t i = r.first; i < r.second; ++i) c.sources.push_back(batches[i].source);
+    return c;
+  };
+  std::vector<drift::EventOutcome> helper_kept;
+  omp_set_num_threads(2);
+  {
+    drift::DriftShare helper = drift::DriftShare::of(batches, 1, 2, 2, sources.size());
+    helper.write_outputs = false;
+    helper.exchange = [&](std::uint32_t, drift::EventOutcome& o) { helper_kept.push_back(o); };
+    helper.next_chunk = [&]() -> std::optional<drift::QueuedChunk> {
+      const auto mine = queue.take();
+      if (!mine) return std::nullopt;
+      if (helper_chunks++ == 0) {
+        for (int k = 0; k < 2; ++k) {
+          if (const auto other = queue.take()) for_root.push_back(to_chunk(*other));
+        }
+      }
+      return to_chunk(*mine);
+    };
+    drift::run_drift(s, field, reef_set, sources, {}, helper);
+  }
+  CHECK(helper_chunks == 2);
+  REQUIRE(for_root.size() == 2);
+  CHECK(for_root[0].event == 1);
+  CHECK(for_root[0].sources == std::vector<std::uint32_t>{0});
+  CHECK(for_root[1].event == 1);
+  CHECK(for_root[1].sources == std::vector<std::uint32_t>{1});
+  CHECK(queue.batches_left() == 0);
+  std::size_t polls = 0;
+  drift::DriftShare root = drift::DriftShare::of(batches, 0, 1, 2, sources.size());
+  root.exchange = [&](std::uint32_t e, drift::EventOutcome& o) { drift::merge_outcome(o, helper_kept.at(e)); };
+  root.next_chunk = [&, next = std::size_t{0}]() mutable -> std::optional<drift::QueuedChunk> {
+    if (next == for_root.size()) return std::nullopt;
+    return for_root[next++];
+  };
+  root.poll = [&] { ++polls; };
+  const drift::DriftSummary merged = drift::run_drift(s, field, reef_set, sources, {}, root);
+  omp_set_num_threads(omp_get_num_procs());
+  CHECK(polls > 100);  // between the time steps of every batch the root drifted
+
+  const auto got = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
+  REQUIRE(got.records.size() == expected.records.size());
+  std::size_t differing = 0;
+  for (std::size_t i = 0; i < got.records.size(); ++i) {
+    const auto &a = got.records[i], &b = expected.records[i];
+    if (a.event != b.event || a.source != b.source || a.reef != b.reef || a.release_time_s != b.release_time_s ||
+        a.settle_time_s != b.settle_time_s || a.age_s != b.age_s || a.weight != b.weight) {
+      ++differing;
+    }
+  }
+  CHECK(differing == 0);
+  REQUIRE(got.fates.size() == expected.fates.size());
+  for (std::size_t i = 0; i < got.fates.size(); ++i) {
+    CHECK(got.fates[i].released == expected.fates[i].released);
+    CHECK(got.fates[i].settled == expected.fates[i].settled);
+    CHECK(got.fates[i].died == expected.fates[i].died);
+    CHECK(got.fates[i].lost == expected.fates[i].lost);
+    CHECK(got.fates[i].settled_weight == expected.fates[i].settled_weight);
+  }
+  std::ifstream csv_got(s.outputs.dir / "settlement.csv");
+  CHECK(std::string((std::istreambuf_iterator<char>(csv_got)), std::istreambuf_iterator<char>()) == expected_csv);
+  CHECK(merged.totals.settled == whole.totals.settled);
+  CHECK(merged.particle_steps == whole.particle_steps);
+  CHECK(merged.records == whole.records);
 }

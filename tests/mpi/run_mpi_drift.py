@@ -11,12 +11,26 @@ Cases:
             brief on rank 0) against one process: connectivity.csv identical.
   rank-fails  rank 0 cannot create the output folder while rank 1 drifts: the
             job stops (no hang) with the cause named, non-zero exit, no outputs.
+  queue-2, queue-3
+            `mpirun -np 2|3 cullcast disperse` with CULLCAST_MPI_STATIC_SHARE=0.2:
+            80 % of the estimated cost goes through rank 0's queue. The queue
+            line must account for every queued batch, a helper rank must have
+            taken some, and settlement.nc and settlement.csv must equal the
+            single-process run's, bit for bit.
+  queue-rank-fails
+            `mpirun -np 3 cullcast run` where rank 1 fails on receiving its
+            first queued chunk (test-only CULLCAST_TEST_FAIL_QUEUED=1): the job
+            stops (no hang), stderr names rank 1 and the cause, the exit code
+            is non-zero, and the output folder holds no settlement, connectivity
+            or temporary file; only the killed rank 0's lock is left, which the
+            next run reports as stale and replaces.
 
 The study is the invented demo archipelago (scenarios/lantern-reach.toml, 50
 reefs and its aggregations, 3 spawning nights) with short larval lives and
 few larvae per reef; its currents come from `cullcast demo-data`.
 """
 import os
+import re
 import shutil
 import subprocess
 import sys
@@ -34,8 +48,12 @@ SHRINK = [
 ]
 
 
-def run(cmd, threads, cwd, timeout=300):
+def run(cmd, threads, cwd, timeout=300, extra_env=None):
     env = dict(os.environ, OMP_NUM_THREADS=str(threads))
+    # The queue's settings come from the test alone, not the caller's shell.
+    for name in ("CULLCAST_MPI_STATIC_SHARE", "CULLCAST_TEST_FAIL_QUEUED"):
+        env.pop(name, None)
+    env.update(extra_env or {})
     return subprocess.run(cmd, capture_output=True, text=True, cwd=cwd, env=env, timeout=timeout)
 
 
@@ -168,9 +186,92 @@ def case_rank_fails(exe, mpiexec, root, tmp):
     return 1 if failures else 0
 
 
+def queue_counts(stdout, ranks):
+    """Rank 0's summary lines: (statically split, queued) batch counts from the
+    split line, and batches per rank from the queue line."""
+    split = re.search(r"(\d+) release batches \(event x source\), (\d+) split by cost, (\d+) queued on rank 0",
+                      stdout)
+    line = re.search(r"queue: (\d+) of (\d+) batches .* in (\d+) chunks:(.*)", stdout)
+    if not split or not line:
+        return None
+    per_rank = {int(r): (int(b), int(c)) for r, b, c in
+                re.findall(r"rank (\d+) (\d+) batches / (\d+) chunks", line.group(4))}
+    if sorted(per_rank) != list(range(ranks)):
+        return None
+    return int(split.group(1)), int(split.group(3)), int(line.group(1)), int(line.group(3)), per_rank
+
+
+def case_queue(exe, mpiexec, root, tmp, ranks):
+    scenario = make_study(exe, root, tmp)
+    base = [exe, "disperse", scenario] + SHRINK
+    one = run(base + out_set("lantern-reach/out-1") + ["-q"], 1, tmp)
+    check(one, "single process")
+    many = run(mpirun(mpiexec, ranks) + base + out_set("lantern-reach/out-n"), 1, tmp,
+               extra_env={"CULLCAST_MPI_STATIC_SHARE": "0.2"})
+    check(many, f"mpirun -np {ranks} with the queue")
+    print(many.stdout)
+    failures = []
+    counts = queue_counts(many.stdout, ranks)
+    if counts is None:
+        print("rank 0 should print the split and a queue line for every rank:\n" + many.stdout)
+        return 1
+    total, queued, handed_out, chunks, per_rank = counts
+    # 54 sources x 3 nights; 20 % static leaves most batches to the queue.
+    if total != 162 or not 0.7 * total < queued < total:
+        failures.append(f"{queued} of {total} batches queued; expected about 80 %")
+    if handed_out != queued or sum(b for b, _ in per_rank.values()) != queued:
+        failures.append(f"the queue handed out {handed_out} (per rank {per_rank}) of {queued} queued batches")
+    if sum(c for _, c in per_rank.values()) != chunks or chunks < ranks:
+        failures.append(f"{chunks} chunks, per rank {per_rank}")
+    if not any(per_rank[r][0] > 0 for r in range(1, ranks)):
+        failures.append(f"no helper rank took a queued batch: {per_rank}")
+    ref = os.path.join(tmp, "lantern-reach", "out-1")
+    got = os.path.join(tmp, "lantern-reach", "out-n")
+    problems, records = same_netcdf(os.path.join(ref, "settlement.nc"), os.path.join(got, "settlement.nc"))
+    failures += problems
+    with open(os.path.join(ref, "settlement.csv"), "rb") as f, open(os.path.join(got, "settlement.csv"), "rb") as g:
+        if f.read() != g.read():
+            failures.append("settlement.csv differs")
+    if records < 100:
+        failures.append(f"only {records} settlement records: the comparison would prove little")
+    print(f"{records} records compared; queued batches per rank (batches, chunks): {per_rank}")
+    for f in failures:
+        print(f)
+    return 1 if failures else 0
+
+
+def case_queue_rank_fails(exe, mpiexec, root, tmp):
+    scenario = make_study(exe, root, tmp)
+    out = os.path.join(tmp, "lantern-reach", "out-fail")
+    three = run(mpirun(mpiexec, 3) + [exe, "run", scenario] + SHRINK + out_set("lantern-reach/out-fail"), 1, tmp,
+                timeout=120, extra_env={"CULLCAST_MPI_STATIC_SHARE": "0.2", "CULLCAST_TEST_FAIL_QUEUED": "1"})
+    failures = []
+    if three.returncode == 0:
+        failures.append("exit code 0")
+    if "cullcast: rank 1 of 3: failed: injected failure (CULLCAST_TEST_FAIL_QUEUED" not in three.stderr:
+        failures.append("stderr lacks the rank and the cause:\n" + three.stderr)
+    if "Drift finished" in three.stdout:
+        failures.append("rank 0 reported a finished drift:\n" + three.stdout)
+    left = sorted(os.listdir(out)) if os.path.isdir(out) else []
+    # MPI_Abort kills rank 0 before it can remove its lock; nothing else may be there.
+    if [n for n in left if n != ".cullcast.lock"]:
+        failures.append(f"partial outputs left: {left}")
+    # The next run into the same folder replaces the dead run's lock.
+    again = run([exe, "disperse", scenario] + SHRINK + out_set("lantern-reach/out-fail"), 1, tmp)
+    check(again, "the run after the failed one")
+    if ".cullcast.lock" in left and "stale" not in again.stderr:
+        failures.append("the next run did not report the dead run's lock:\n" + again.stderr)
+    print(f"failed job left {left}; stderr:\n{three.stderr}")
+    for f in failures:
+        print(f)
+    return 1 if failures else 0
+
+
 def main():
     exe, mpiexec, root, case = sys.argv[1:5]
-    cases = {"disperse": case_disperse, "run": case_run, "rank-fails": case_rank_fails}
+    cases = {"disperse": case_disperse, "run": case_run, "rank-fails": case_rank_fails,
+             "queue-2": lambda *a: case_queue(*a, 2), "queue-3": lambda *a: case_queue(*a, 3),
+             "queue-rank-fails": case_queue_rank_fails}
     with tempfile.TemporaryDirectory(prefix="cullcast-mpi-") as tmp:
         return cases[case](exe, mpiexec, root, tmp)
 

@@ -12,6 +12,7 @@
 #include <cstddef>
 #include <cstdint>
 #include <functional>
+#include <optional>
 #include <vector>
 
 #include "cullcast/drift/settlement_log.hpp"
@@ -59,6 +60,12 @@ struct EventOutcome {
 // of the same larva (the batches overlapped) or the source counts differ.
 void merge_outcome(EventOutcome& into, const EventOutcome& other);
 
+// Batches of one event handed to this process by a queue (batch_queue.hpp).
+struct QueuedChunk {
+  std::uint32_t event = 0;
+  std::vector<std::uint32_t> sources;  // ascending
+};
+
 // Which batches this process drifts, and how its results meet the others'.
 struct DriftShare {
   // batches[event][source] != 0: drifted here. Empty: every batch (one process).
@@ -69,6 +76,14 @@ struct DriftShare {
   std::function<void(std::uint32_t event, EventOutcome& outcome)> exchange;
   // False: write no settlement log and create no output folder (helper processes).
   bool write_outputs = true;
+  // With an exchange only. When set, run_drift asks it for more batches once
+  // the static `batches` are drifted, and again after each chunk, until it
+  // returns nothing; each chunk is drifted on its own and merged into its
+  // event's outcome (merge_outcome), so the batches may come in any grouping.
+  std::function<std::optional<QueuedChunk>()> next_chunk;
+  // When set, called between time steps (lets the queue's owner answer
+  // other processes' requests while it drifts).
+  std::function<void()> poll;
 
   // This process's batches [first, last) of `all`.
   static DriftShare of(const std::vector<ReleaseBatch>& all, std::size_t first, std::size_t last,
