@@ -165,7 +165,8 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
                       static_cast<std::int32_t>(fs.nx), static_cast<std::int32_t>(fs.ny), wet_.data(),
                       row_sin_.data(), row_cos_.data(), 1.0 / fs.inv_dlat,
                       e2, 1.0 / (a * kRad), 1.0 / (a * kRad), 1.0 / (a * (1.0 - e2) * kRad),
-                      folded_, row_m_per_deg_lon_.data(), row_m_per_deg_lat_.data()};
+                      folded_, row_m_per_deg_lon_.data(), row_m_per_deg_lat_.data(), row_east_.data(),
+                      row_north_.data()};
   lanes::StepPlan plan{stage_uv_[0].data(),
                        stages > 1 ? stage_uv_[1].data() : stage_uv_[0].data(),
                        stages > 2 ? stage_uv_[2].data() : stage_uv_[0].data(),

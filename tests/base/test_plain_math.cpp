@@ -1,6 +1,8 @@
 #include <catch2/catch.hpp>
 
+#include <algorithm>
 #include <cmath>
+#include <cstdint>
 #include <limits>
 
 #include "cullcast/base/plain_math.hpp"
@@ -56,4 +58,48 @@ TEST_CASE("plain_sincos_turns matches libm on a whole turn") {
   cullcast::plain_sincos_turns(0.0, s, c);
   CHECK(s == 0.0);
   CHECK(c == 1.0);
+}
+
+// The single-precision versions, against libm in double (the reference
+// rounded to float is within half an ulp of the true value).
+TEST_CASE("plain_logf matches libm over every uniform the random walk sees") {
+  // The uniforms are (k + 0.5)·2^-24 for k < 2^24: check a dense sweep, the
+  // smallest ones, and the ones next to 1.
+  double worst = 0;
+  auto check = [&](float x) {
+    const double ref = std::log(static_cast<double>(x));
+    const double err = std::fabs(static_cast<double>(cullcast::plain_logf(x)) - ref);
+    // Relative to |ln x|, but near x = 1 the absolute error is what matters
+    // to the radius sqrt(-2 ln u): compare against max(|ln x|, 2^-24).
+    worst = std::max(worst, err / std::max(std::fabs(ref), 0x1p-24));
+  };
+  for (std::uint32_t k = 0; k < (1u << 24); k += 97) check((static_cast<float>(k) + 0.5f) * 0x1p-24f);
+  for (std::uint32_t k = 0; k < 4096; ++k) {
+    check((static_cast<float>(k) + 0.5f) * 0x1p-24f);
+    check((static_cast<float>((1u << 24) - 1 - k) + 0.5f) * 0x1p-24f);
+  }
+  for (float x : {1e-30f, 0.5f, 0.70710677f, 1.4142135f, 2.0f, 10.0f, 1e30f}) check(x);
+  INFO("worst relative error " << worst);
+  CHECK(worst < 4 * std::numeric_limits<float>::epsilon());
+}
+
+TEST_CASE("plain_sincos_turnsf matches libm on a whole turn") {
+  constexpr double kTwoPi = 6.283185307179586476925;
+  double worst = 0;
+  for (int k = 0; k <= 200000; ++k) {
+    const float u = static_cast<float>(k) / 200000.0f;
+    float s, c;
+    cullcast::plain_sincos_turnsf(u, s, c);
+    const double angle = kTwoPi * static_cast<double>(u);
+    worst = std::max({worst, std::fabs(s - std::sin(angle)), std::fabs(c - std::cos(angle))});
+  }
+  INFO("worst absolute error " << worst);
+  // The argument 2πu is rounded in float (about 2.4e-7 near u = 1).
+  CHECK(worst < 5e-7);
+  float s, c;
+  cullcast::plain_sincos_turnsf(0.25f, s, c);
+  CHECK(s == 1.0f);
+  cullcast::plain_sincos_turnsf(0.0f, s, c);
+  CHECK(s == 0.0f);
+  CHECK(c == 1.0f);
 }

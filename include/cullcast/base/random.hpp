@@ -66,13 +66,17 @@ class CounterRandom {
   }
 
   // Two independent standard normal deviates (Box–Muller: Box & Muller 1958,
-  // Ann. Math. Statist. 29:610–611), with the portable log and sin/cos of
-  // plain_math.hpp so the deviates are the same bits on every machine.
+  // Ann. Math. Statist. 29:610–611) from the first two words, in single
+  // precision (twice the vector lanes of double; a deviate's relative
+  // rounding, 6e-8, is far below anything a random walk resolves) with the
+  // portable log and sin/cos of plain_math.hpp, so they are the same bits on
+  // every machine. The uniforms have 24 bits, the smallest is 2^-25, so the
+  // deviates stop at 5.9 standard deviations (4e-9 of a normal lies beyond).
   std::array<double, 2> normal2(const StreamId& id, std::uint32_t step, Draw draw) const noexcept {
-    const auto u = uniform2(id, step, draw);
-    std::array<double, 2> z;
-    box_muller(u[0], u[1], z[0], z[1]);
-    return z;
+    const PhiloxCounter w = words(id, step, draw);
+    float z0, z1;
+    box_muller(w[0], w[1], z0, z1);
+    return {z0, z1};
   }
 
   // normal2() for a batch of particles of one event: z0[l], z1[l] are the
@@ -110,7 +114,10 @@ class CounterRandom {
       round(keys[7][0], keys[7][1]);
       round(keys[8][0], keys[8][1]);
       round(keys[9][0], keys[9][1]);
-      box_muller(to_open_unit(c0, c1), to_open_unit(c2, c3), z0[l], z1[l]);
+      float a, b;
+      box_muller(c0, c1, a, b);
+      z0[l] = a;
+      z1[l] = b;
     }
   }
 
@@ -121,10 +128,15 @@ class CounterRandom {
     const std::uint64_t bits = ((static_cast<std::uint64_t>(hi) << 20) ^ (lo >> 12)) & ((std::uint64_t{1} << 52) - 1);
     return (std::bit_cast<double>(bits | 0x4330000000000000u) - 0x1p52 + 0.5) * 0x1p-52;
   }
-  static void box_muller(double u0, double u1, double& z0, double& z1) noexcept {
-    const double radius = std::sqrt(-2.0 * plain_log(u0));
-    double s, c;
-    plain_sincos_turns(u1, s, c);
+  // A uniform in (0, 1) from the top 24 bits of a word, exact in float
+  // (through int32: the conversion vectorises on any x86-64).
+  static float to_open_unit_float(std::uint32_t w) noexcept {
+    return (static_cast<float>(static_cast<std::int32_t>(w >> 8)) + 0.5f) * 0x1p-24f;
+  }
+  static void box_muller(std::uint32_t w0, std::uint32_t w1, float& z0, float& z1) noexcept {
+    const float radius = std::sqrt(-2.0f * plain_logf(to_open_unit_float(w0)));
+    float s, c;
+    plain_sincos_turnsf(to_open_unit_float(w1), s, c);
     z0 = radius * c;
     z1 = radius * s;
   }
