@@ -60,8 +60,11 @@ std::vector<VectorIsa> GridStepper::instruction_sets() {
   std::vector<VectorIsa> sets{VectorIsa::baseline};
 #if defined(__x86_64__)
   __builtin_cpu_init();
+  // x86-64-v3 also implies MOVBE, LZCNT and F16C, which every processor
+  // with AVX2, FMA and BMI2 has; those three are the ones both GCC and
+  // clang can query.
   const bool avx2 = __builtin_cpu_supports("avx2") && __builtin_cpu_supports("fma") &&
-                    __builtin_cpu_supports("bmi2") && __builtin_cpu_supports("movbe");
+                    __builtin_cpu_supports("bmi2");
   if (avx2) sets.push_back(VectorIsa::avx2);
   if (avx2 && __builtin_cpu_supports("avx512f") && __builtin_cpu_supports("avx512bw") &&
       __builtin_cpu_supports("avx512dq") && __builtin_cpu_supports("avx512vl")) {
