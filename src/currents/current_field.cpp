@@ -11,6 +11,7 @@
 #include <netcdf>
 #include <numbers>
 #include <sstream>
+#include <type_traits>
 
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/cf_time.hpp"
@@ -920,13 +921,36 @@ bool CurrentField::horizontal_slice(double t_s, double depth_m, std::vector<floa
   const float af = static_cast<float>(a), bf = static_cast<float>(fz);
   const float* top = blk->data + k * static_cast<std::ptrdiff_t>(nodes) * c;
   const float* below = fz > 0.0 ? top + static_cast<std::ptrdiff_t>(nodes) * c : top;
-  for (std::size_t n = 0; n < nodes; ++n) {
-    const float* p = top + n * c;
-    const float* q = below + n * c;
-    const float u0 = p[0] + af * p[2], v0 = p[1] + af * p[3];
-    const float u1 = q[0] + af * q[2], v1 = q[1] + af * q[3];
-    uv[2 * n] = u0 + bf * (u1 - u0);
-    uv[2 * n + 1] = v0 + bf * (v1 - v0);
+  // Called three times per drift step on the whole grid: threads and vector
+  // lanes over the nodes (each node independent, so the same bits for any
+  // thread count), with the channel count fixed per loop so it vectorises.
+  float* out = uv.data();
+  auto blend = [&](auto channels) {
+    constexpr std::ptrdiff_t kC = decltype(channels)::value;
+    const auto count = static_cast<std::ptrdiff_t>(nodes);
+#pragma omp parallel for simd schedule(static) if (count > 65536)
+    for (std::ptrdiff_t n = 0; n < count; ++n) {
+      const float* p = top + n * kC;
+      const float* q = below + n * kC;
+      const float u0 = p[0] + af * p[2], v0 = p[1] + af * p[3];
+      const float u1 = q[0] + af * q[2], v1 = q[1] + af * q[3];
+      out[2 * n] = u0 + bf * (u1 - u0);
+      out[2 * n + 1] = v0 + bf * (v1 - v0);
+    }
+  };
+  if (c == 4) {
+    blend(std::integral_constant<std::ptrdiff_t, 4>{});
+  } else if (c == 6) {
+    blend(std::integral_constant<std::ptrdiff_t, 6>{});
+  } else {
+    for (std::size_t n = 0; n < nodes; ++n) {
+      const float* p = top + n * c;
+      const float* q = below + n * c;
+      const float u0 = p[0] + af * p[2], v0 = p[1] + af * p[3];
+      const float u1 = q[0] + af * q[2], v1 = q[1] + af * q[3];
+      out[2 * n] = u0 + bf * (u1 - u0);
+      out[2 * n + 1] = v0 + bf * (v1 - v0);
+    }
   }
   return true;
 }

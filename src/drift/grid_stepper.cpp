@@ -150,11 +150,16 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
       uv.assign(uv.size(), 0.0f);  // outside the prepared frames: still water
     }
     if (folded_) {  // m/s -> degrees/s with each row's metric
-      const std::size_t nx = static_cast<std::size_t>(field_.sampler().nx);
-      for (std::size_t j = 0; j < row_east_.size(); ++j) {
-        const auto east = static_cast<float>(row_east_[j]), north = static_cast<float>(row_north_[j]);
-        float* row = uv.data() + 2 * j * nx;
-        for (std::size_t i = 0; i < nx; ++i) {
+      const std::ptrdiff_t nx = field_.sampler().nx;
+      const auto rows = static_cast<std::ptrdiff_t>(row_east_.size());
+      float* data = uv.data();
+      const double* east_of = row_east_.data();
+      const double* north_of = row_north_.data();
+#pragma omp parallel for schedule(static) if (rows * nx > 65536)
+      for (std::ptrdiff_t j = 0; j < rows; ++j) {
+        const auto east = static_cast<float>(east_of[j]), north = static_cast<float>(north_of[j]);
+        float* row = data + 2 * j * nx;
+        for (std::ptrdiff_t i = 0; i < nx; ++i) {
           row[2 * i] *= east;
           row[2 * i + 1] *= north;
         }
