@@ -36,9 +36,10 @@ void print_summary(std::ostream& out, const drift::DriftSummary& s) {
   row("stranded", t.stranded, t.released);
   row("lost", t.lost, t.released);
   row("drifting", t.drifting, t.released);
-  char speed[96];
-  std::snprintf(speed, sizeof speed, "%.2f million particle-steps per second (%d threads)",
-                s.particle_steps_per_s / 1e6, omp_get_max_threads());
+  char speed[160];
+  std::snprintf(speed, sizeof speed, "%.2f million particle-steps per second (%d threads%s%s)",
+                s.particle_steps_per_s / 1e6, omp_get_max_threads(), s.stepper.empty() ? "" : ", ",
+                s.stepper.c_str());
   out << "  " << with_thousands(s.particle_steps) << " particle-steps in "
       << format_duration(s.seconds) << ": " << speed << "\n";
   if (s.land_contacts > 0) {

@@ -407,6 +407,11 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     }
     // The core path on a uniform regular grid has a faster stepper (grid_stepper.hpp).
     const bool on_grid = !use_extras && GridStepper::applies(field, p);
+    if (on_grid) {
+      summary.stepper = std::string("grid stepper, ") + GridStepper::isa_name(grid_stepper.instruction_set()) + " kernel";
+    } else if (summary.stepper.empty()) {
+      summary.stepper = "generic step";
+    }
     std::uint64_t alive = 0, settled = 0, released = 0;
     std::uint32_t first_step = 0;
     if (resuming_this) {

@@ -51,6 +51,7 @@ struct DriftSummary {
   std::size_t track_count = 0;
   std::filesystem::path backward_csv;    // empty without [backward]
   std::string physics;                   // the optional physics in effect (for the summary)
+  std::string stepper;                   // which step path ran (grid stepper with its kernel, or generic)
   std::vector<std::string> warnings;
 };
 
