@@ -201,6 +201,8 @@ int main(int argc, char** argv) {
     std::printf("threads %d, %-34s %6.1f million particle-steps/s wall, %6.1f per CPU-second\n", threads, label,
                 particle_steps / busy / 1e6, particle_steps / cpu / 1e6);
   };
+  std::printf("grid stepper kernel: %s (CULLCAST_VECTOR_ISA caps it)\n",
+              drift::GridStepper::isa_name(drift::GridStepper(field, earth).instruction_set()));
   if (argc > 3 && std::string(argv[3]) == "only-production") {
     measure(1, "production step (grid stepper):", true, s, clock);
     return 0;
