@@ -13,7 +13,7 @@
 
 #include "cullcast/currents/synthetic_currents.hpp"
 #include "../support/settlement_file.hpp"
-#include "../support/stage_folder.hpp"
+#include "../support/scratch_folder.hpp"
 
 namespace fs = std::filesystem;
 using Catch::Matchers::Contains;
@@ -21,8 +21,8 @@ using cullcast::test::read_all;
 
 namespace {
 
-struct BriefWorkspace : cullcast::test::StageFolder {
-  BriefWorkspace() : StageFolder("brief") {
+struct BriefWorkspace : cullcast::test::ScratchFolder {
+  BriefWorkspace() : ScratchFolder("brief") {
     fs::create_directories(dir / "out");
     cullcast::currents::SyntheticOptions o;
     o.kind = cullcast::currents::SyntheticKind::uniform;
@@ -67,7 +67,7 @@ max_days_per_reef = 2
 )";
   }
   // `cullcast <args> s.toml`
-  int run(const std::string& args) const { return StageFolder::run(args + " " + (dir / "s.toml").string()); }
+  int run(const std::string& args) const { return ScratchFolder::run(args + " " + (dir / "s.toml").string()); }
   // Records released at time 0 and settled 20 days later.
   void write_settlement() const {
     cullcast::test::SettlementPlan plan;

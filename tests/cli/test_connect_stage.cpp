@@ -17,7 +17,7 @@
 #include <vector>
 
 #include "../support/settlement_file.hpp"
-#include "../support/stage_folder.hpp"
+#include "../support/scratch_folder.hpp"
 
 namespace fs = std::filesystem;
 using Catch::Detail::Approx;
@@ -55,8 +55,8 @@ void write_settlement(const fs::path& file) {
   cullcast::test::write_settlement(file, plan);
 }
 
-struct Workspace : cullcast::test::StageFolder {
-  Workspace() : StageFolder("connect") {
+struct Workspace : cullcast::test::ScratchFolder {
+  Workspace() : ScratchFolder("connect") {
     fs::create_directories(dir / "currents");
     std::ofstream(dir / "currents" / "a.nc") << "x";  // the loader only checks that it exists
     std::ofstream(dir / "reefs.geojson") << reef_geojson();

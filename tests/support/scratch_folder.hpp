@@ -1,7 +1,7 @@
 #pragma once
-// For tests that run the cullcast program itself on files they write: a
-// scratch folder of the test's own, and the program run with its standard
-// output and error captured there.
+// For tests that write their own input files: a scratch folder of the
+// test's own, and the cullcast program run there with its standard output and
+// error captured.
 #include <sys/wait.h>
 #include <unistd.h>
 
@@ -21,17 +21,18 @@ inline std::string read_all(const std::filesystem::path& p) {
   return s.str();
 }
 
-// <temp>/cullcast-<name>-<pid>, emptied on construction and removed on
-// destruction (the pid keeps parallel CTest processes apart).
-struct StageFolder {
+// <temp>/cullcast-<name>-<pid>, created empty and removed on destruction
+// (the pid keeps parallel CTest processes apart).
+struct ScratchFolder {
   std::filesystem::path dir;
-  explicit StageFolder(const std::string& name)
+  explicit ScratchFolder(const std::string& name)
       : dir(std::filesystem::temp_directory_path() / ("cullcast-" + name + "-" + std::to_string(::getpid()))) {
     std::filesystem::remove_all(dir);
+    std::filesystem::create_directories(dir);
   }
-  StageFolder(const StageFolder&) = delete;
-  StageFolder& operator=(const StageFolder&) = delete;
-  ~StageFolder() {
+  ScratchFolder(const ScratchFolder&) = delete;
+  ScratchFolder& operator=(const ScratchFolder&) = delete;
+  ~ScratchFolder() {
     std::error_code ignored;
     std::filesystem::remove_all(dir, ignored);
   }
