@@ -177,9 +177,14 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
                                            const RunComparison& c) {
   fs::create_directories(dir);
   std::vector<fs::path> written;
-  {
-    AtomicFile file(dir / (prefix + "_links.csv"));
-    std::ostream& out = file.stream();
+  // One CSV file dir/<prefix><suffix>, written whole by `rows` or not at all.
+  auto write = [&](const std::string& suffix, const auto& rows) {
+    AtomicFile file(dir / (prefix + suffix));
+    rows(file.stream());
+    file.commit();
+    written.push_back(file.target());
+  };
+  write("_links.csv", [&](std::ostream& out) {
     out << "source_id,sink_id,released_a,settlers_a,probability_a,released_b,settlers_b,"
            "probability_b,difference,z,p_value,q_value,min_expected,significant,significant_fdr\n";
     for (const auto& l : c.links) {
@@ -193,12 +198,8 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
           << (l.significant ? "true" : "false") << ',' << (l.significant_fdr ? "true" : "false")
           << "\n";
     }
-    file.commit();
-    written.push_back(file.target());
-  }
-  {
-    AtomicFile file(dir / (prefix + "_reefs.csv"));
-    std::ostream& out = file.stream();
+  });
+  write("_reefs.csv", [&](std::ostream& out) {
     out << "reef_id,role_a,role_b,role_changed,export_a,export_b,import_a,import_b,rank_a,rank_b,"
            "rank_shift,plan\n";
     for (const auto& r : c.reefs) {
@@ -212,12 +213,8 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
           << (r.rank_a && r.rank_b ? std::to_string(r.rank_b - r.rank_a) : "") << ',' << plan
           << "\n";
     }
-    file.commit();
-    written.push_back(file.target());
-  }
-  {
-    AtomicFile file(dir / (prefix + "_summary.csv"));
-    std::ostream& out = file.stream();
+  });
+  write("_summary.csv", [&](std::ostream& out) {
     out << "quantity,value\n"
         << "run_a," << csv_field(c.dir_a.string()) << "\n"
         << "run_b," << csv_field(c.dir_b.string()) << "\n"
@@ -241,9 +238,7 @@ std::vector<fs::path> write_comparison_csv(const fs::path& dir, const std::strin
           << "averted_a," << num(c.averted_a) << "\n"
           << "averted_b," << num(c.averted_b) << "\n";
     }
-    file.commit();
-    written.push_back(file.target());
-  }
+  });
   return written;
 }
 

@@ -6,66 +6,25 @@
 #include <ogrsf_frmts.h>
 
 #include <cmath>
-#include <memory>
-#include <mutex>
 #include <stdexcept>
 
 #include "cullcast/base/atomic_file.hpp"
+#include "gdal_output.hpp"
 
 namespace cullcast::report {
 namespace fs = std::filesystem;
 namespace {
 
-struct DatasetCloser {
-  void operator()(GDALDataset* d) const noexcept { GDALClose(GDALDataset::ToHandle(d)); }
-};
-using DatasetPtr = std::unique_ptr<GDALDataset, DatasetCloser>;
-
-GDALDriver* driver(const char* name) {
-  static std::once_flag once;
-  std::call_once(once, [] { GDALAllRegister(); });
-  GDALDriver* d = GetGDALDriverManager()->GetDriverByName(name);
-  if (d == nullptr) throw std::runtime_error(std::string("GDAL has no ") + name + " driver");
-  return d;
-}
+using gdal_output::DatasetPtr;
+using gdal_output::driver;
+using gdal_output::reef_shape;
+using gdal_output::ScratchFile;
 
 OGRSpatialReference wgs84() {
   OGRSpatialReference srs;
   srs.importFromEPSG(4326);
   srs.SetAxisMappingStrategy(OAMS_TRADITIONAL_GIS_ORDER);  // lon, lat
   return srs;
-}
-
-// GDAL drivers check the extension: write under the temporary name plus the
-// target's extension, then move it onto the name AtomicFile renames into place.
-struct Scratch {
-  fs::path path;
-  explicit Scratch(const AtomicFile& f) : path(f.temp_path().string() + f.target().extension().string()) {}
-  ~Scratch() {
-    std::error_code ignored;
-    fs::remove(path, ignored);
-  }
-};
-
-OGRMultiPolygon shape_of(const reefs::Reef& r) {
-  OGRMultiPolygon shape;
-  for (const auto& part : r.parts) {
-    OGRPolygon polygon;
-    auto ring_of = [](const reefs::Ring& ring) {
-      OGRLinearRing out;
-      for (const auto& p : ring) out.addPoint(p.lon, p.lat);
-      out.closeRings();
-      return out;
-    };
-    OGRLinearRing outer = ring_of(part.outer);
-    polygon.addRing(&outer);
-    for (const auto& h : part.holes) {
-      OGRLinearRing hole = ring_of(h);
-      polygon.addRing(&hole);
-    }
-    shape.addGeometry(&polygon);
-  }
-  return shape;
 }
 
 }  // namespace
@@ -76,7 +35,7 @@ void write_briefing_gpkg(const fs::path& file, const BriefingData& d) {
   };
   AtomicFile target(file);
   {
-    Scratch scratch(target);
+    ScratchFile scratch(target);
     {
       DatasetPtr ds(driver("GPKG")->Create(scratch.path.c_str(), 0, 0, 0, GDT_Unknown, nullptr));
       if (!ds) throw fail("cannot create the GeoPackage");
@@ -130,7 +89,7 @@ void write_briefing_gpkg(const fs::path& file, const BriefingData& d) {
             f.SetField("cull_effort_days", c.effort_days);
           }
         }
-        OGRMultiPolygon shape = shape_of(r);
+        OGRMultiPolygon shape = reef_shape(r);
         f.SetGeometry(&shape);
         add(reefs, f);
       }
@@ -190,7 +149,7 @@ void write_density_geotiff(const fs::path& file, const BriefingData& d) {
   }
   for (std::size_t k = 0; k < d.reefs.size() && k < d.results.size(); ++k) {
     const auto& r = d.reefs[k];
-    const OGRMultiPolygon shape = shape_of(r);
+    const OGRMultiPolygon shape = reef_shape(r);
     const long i0 = std::max(0L, static_cast<long>(std::floor((r.lon_min - g.lon0) / dlon + 0.5)));
     const long i1 = std::min(static_cast<long>(g.nx) - 1, static_cast<long>(std::ceil((r.lon_max - g.lon0) / dlon - 0.5)));
     const long r0 = std::max(0L, static_cast<long>(std::floor((lat_top - r.lat_max) / dlat + 0.5)));
@@ -215,7 +174,7 @@ void write_density_geotiff(const fs::path& file, const BriefingData& d) {
   }
   AtomicFile target(file);
   {
-    Scratch scratch(target);
+    ScratchFile scratch(target);
     {
       char** options = nullptr;
       options = CSLSetNameValue(options, "COMPRESS", "DEFLATE");

@@ -6,20 +6,17 @@
 #include <ogrsf_frmts.h>
 
 #include <cmath>
-#include <memory>
-#include <mutex>
 #include <stdexcept>
 
 #include "cullcast/base/atomic_file.hpp"
+#include "gdal_output.hpp"
 
 namespace cullcast::report {
 namespace fs = std::filesystem;
 namespace {
 
-struct DatasetCloser {
-  void operator()(GDALDataset* d) const noexcept { GDALClose(GDALDataset::ToHandle(d)); }
-};
-using DatasetPtr = std::unique_ptr<GDALDataset, DatasetCloser>;
+using gdal_output::DatasetPtr;
+using gdal_output::ScratchFile;
 
 std::string driver_for(const fs::path& path) {
   std::string ext = path.extension().string();
@@ -28,13 +25,6 @@ std::string driver_for(const fs::path& path) {
   if (ext == ".gpkg") return "GPKG";
   throw std::runtime_error("cannot write " + path.string() +
                            ": unknown GIS format (expected .geojson or .gpkg)");
-}
-
-OGRLinearRing ring_of(const reefs::Ring& r) {
-  OGRLinearRing ring;
-  for (const auto& p : r) ring.addPoint(p.lon, p.lat);
-  ring.closeRings();
-  return ring;
 }
 
 }  // namespace
@@ -52,28 +42,15 @@ void write_reef_layer(const fs::path& path, const std::vector<reefs::Reef>& reef
                                   " reefs");
     }
   }
-  static std::once_flag once;
-  std::call_once(once, [] { GDALAllRegister(); });
-  GDALDriver* driver = GetGDALDriverManager()->GetDriverByName(driver_name.c_str());
-  if (driver == nullptr) throw std::runtime_error("GDAL has no " + driver_name + " driver");
+  GDALDriver* driver = gdal_output::driver(driver_name);
   const auto fail = [&](const std::string& what) {
     return std::runtime_error("cannot write " + path.string() + ": " + what + ": " +
                               CPLGetLastErrorMsg());
   };
   AtomicFile target(path);
-  // GDAL drivers check the extension (GeoPackage warns otherwise): write under
-  // the temporary name plus the target's extension, then move onto the
-  // temporary name that AtomicFile renames into place.
-  const fs::path scratch = target.temp_path().string() + path.extension().string();
-  struct Remove {
-    fs::path p;
-    ~Remove() {
-      std::error_code ignored;
-      fs::remove(p, ignored);
-    }
-  } cleanup{scratch};
+  const ScratchFile scratch(target);
   {
-    DatasetPtr ds(driver->Create(scratch.c_str(), 0, 0, 0, GDT_Unknown, nullptr));
+    DatasetPtr ds(driver->Create(scratch.path.c_str(), 0, 0, 0, GDT_Unknown, nullptr));
     if (!ds) throw fail("cannot create the dataset");
     OGRSpatialReference wgs84;
     wgs84.SetWellKnownGeogCS("WGS84");
@@ -115,17 +92,7 @@ void write_reef_layer(const fs::path& path, const std::vector<reefs::Reef>& reef
             break;
         }
       }
-      OGRMultiPolygon shape;
-      for (const auto& part : reefs[i].parts) {
-        OGRPolygon polygon;
-        OGRLinearRing outer = ring_of(part.outer);
-        polygon.addRing(&outer);
-        for (const auto& hole : part.holes) {
-          OGRLinearRing h = ring_of(hole);
-          polygon.addRing(&h);
-        }
-        shape.addGeometry(&polygon);
-      }
+      OGRMultiPolygon shape = gdal_output::reef_shape(reefs[i]);
       feature->SetGeometry(&shape);
       if (layer->CreateFeature(feature.get()) != OGRERR_NONE) {
         throw fail("cannot write feature " + std::to_string(i) + " (reef \"" + reefs[i].id + "\")");
@@ -134,7 +101,7 @@ void write_reef_layer(const fs::path& path, const std::vector<reefs::Reef>& reef
     if (transaction && ds->CommitTransaction() != OGRERR_NONE) throw fail("cannot commit");
     ds->FlushCache();
   }  // dataset closed before the rename
-  fs::rename(scratch, target.temp_path());
+  fs::rename(scratch.path, target.temp_path());
   target.commit();
 }
 

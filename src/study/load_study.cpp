@@ -120,9 +120,7 @@ CurrentsSettings read_currents(const toml::table* t, const Context& ctx, toml::s
                      {"standard", "gregorian", "proleptic_gregorian", "julian", "noleap",
                       "365_day", "all_leap", "366_day", "360_day"});
   }
-  const std::int64_t ahead = r.integer("frames_ahead", 1);
-  r.require_range("frames_ahead", static_cast<double>(ahead), 0, 16, "frames");
-  s.frames_ahead = static_cast<int>(ahead);
+  s.frames_ahead = r.int_in("frames_ahead", 1, 0, 16, "frames");
   if (expand) s.files = expand_patterns(r, ctx, s.patterns);
   r.finish();
   return s;
@@ -138,8 +136,7 @@ ReefSettings read_reefs(const toml::table* t, const Context& ctx, toml::source_r
   s.name_field = r.text("name", "");
   s.priority_field = r.text("priority", "");
   s.repair_geometry = r.boolean("repair_geometry", false);
-  s.settle_buffer_m = r.number("settle_buffer_m", 0.0);
-  r.require_range("settle_buffer_m", s.settle_buffer_m, 0, 50000, "metres");
+  s.settle_buffer_m = r.number_in("settle_buffer_m", 0.0, 0, 50000, "metres");
   const std::string surveys = r.text("surveys", "");
   if (!surveys.empty()) s.surveys = existing_file(r, ctx, "surveys", surveys);
   s.missing_survey = r.text("missing_survey", "zero");
@@ -177,13 +174,9 @@ std::vector<SpawningEvent> read_spawning(const toml::node* n, const Context& ctx
     SpawningEvent e;
     e.label = r.text("label", "event " + std::to_string(i + 1));
     e.start = read_time(t, "start", r);
-    e.hours = r.number("hours", 0.0);
-    r.require_range("hours", e.hours, 0, 24 * 31, "hours");
-    const std::int64_t larvae = r.integer("larvae_per_reef", 1000);
-    r.require_range("larvae_per_reef", static_cast<double>(larvae), 1, 1e8, "particles per source");
-    e.larvae_per_reef = static_cast<int>(larvae);
-    e.depth_m = r.number("depth_m", 0.0);
-    r.require_range("depth_m", e.depth_m, 0, 11000, "metres below the surface");
+    e.hours = r.number_in("hours", 0.0, 0, 24 * 31, "hours");
+    e.larvae_per_reef = r.int_in("larvae_per_reef", 1000, 1, 1e8, "particles per source");
+    e.depth_m = r.number_in("depth_m", 0.0, 0, 11000, "metres below the surface");
     r.finish();
     out.push_back(e);
   }
@@ -193,15 +186,13 @@ std::vector<SpawningEvent> read_spawning(const toml::node* n, const Context& ctx
 LarvaeSettings read_larvae(const toml::table* t, const Context& ctx, toml::source_region where) {
   SectionReader r(t, "larvae", ctx.file, where);
   LarvaeSettings s;
-  s.precompetent_days = r.number("precompetent_days", s.precompetent_days);
-  r.require_range("precompetent_days", s.precompetent_days, 0, 365, "days");
+  s.precompetent_days = r.number_in("precompetent_days", s.precompetent_days, 0, 365, "days");
   s.competent_days = r.number("competent_days", s.competent_days);
   r.require_positive("competent_days", s.competent_days, "days");
   r.require_range("competent_days", s.competent_days, 0, 365, "days");
   s.mortality = r.text("mortality", s.mortality);
   r.require_one_of("mortality", s.mortality, {"constant", "weibull"});
-  s.mortality_per_day = r.number("mortality_per_day", s.mortality_per_day);
-  r.require_range("mortality_per_day", s.mortality_per_day, 0, 100, "per day");
+  s.mortality_per_day = r.number_in("mortality_per_day", s.mortality_per_day, 0, 100, "per day");
   s.weibull_shape = r.number("weibull_shape", s.weibull_shape);
   r.require_positive("weibull_shape", s.weibull_shape, "dimensionless");
   s.weibull_scale_days = r.number("weibull_scale_days", s.weibull_scale_days);
@@ -214,16 +205,15 @@ LarvaeSettings read_larvae(const toml::table* t, const Context& ctx, toml::sourc
   }
   s.temperature_effect = r.text("temperature_effect", s.temperature_effect);
   r.require_one_of("temperature_effect", s.temperature_effect, {"auto", "off"});
-  s.reference_temperature_c = r.number("reference_temperature_c", s.reference_temperature_c);
-  r.require_range("reference_temperature_c", s.reference_temperature_c, -2, 40, "deg C");
-  s.development_q10 = r.number("development_q10", s.development_q10);
-  r.require_range("development_q10", s.development_q10, 1, 20, "dimensionless");
+  s.reference_temperature_c =
+      r.number_in("reference_temperature_c", s.reference_temperature_c, -2, 40, "deg C");
+  s.development_q10 = r.number_in("development_q10", s.development_q10, 1, 20, "dimensionless");
   s.food_effect = r.text("food_effect", s.food_effect);
   r.require_one_of("food_effect", s.food_effect, {"auto", "off"});
   s.food_saturation_mg_m3 = r.number("food_saturation_mg_m3", s.food_saturation_mg_m3);
   r.require_positive("food_saturation_mg_m3", s.food_saturation_mg_m3, "mg m-3");
-  s.food_odds_per_doubling = r.number("food_odds_per_doubling", s.food_odds_per_doubling);
-  r.require_range("food_odds_per_doubling", s.food_odds_per_doubling, 1, 1000, "odds ratio");
+  s.food_odds_per_doubling =
+      r.number_in("food_odds_per_doubling", s.food_odds_per_doubling, 1, 1000, "odds ratio");
   s.completion_at_saturation = r.number("completion_at_saturation", s.completion_at_saturation);
   if (!(s.completion_at_saturation > 0 && s.completion_at_saturation < 1)) {
     r.fail("completion_at_saturation",
@@ -239,28 +229,23 @@ MotionSettings read_motion(const toml::table* t, const Context& ctx, toml::sourc
   s.dt_minutes = r.number("dt_minutes", s.dt_minutes);
   r.require_positive("dt_minutes", s.dt_minutes, "minutes");
   r.require_range("dt_minutes", s.dt_minutes, 0, 24 * 60, "minutes");
-  s.kh_m2_s = r.number("kh_m2_s", s.kh_m2_s);
-  r.require_range("kh_m2_s", s.kh_m2_s, 0, 1e5, "m2 s-1");
+  s.kh_m2_s = r.number_in("kh_m2_s", s.kh_m2_s, 0, 1e5, "m2 s-1");
   s.scheme = r.text("scheme", s.scheme);
   r.require_one_of("scheme", s.scheme, {"rk4", "rk2", "euler"});
   s.earth = r.text("earth", s.earth);
   r.require_one_of("earth", s.earth, {"sphere", "wgs84"});
-  s.earth_radius_m = r.number("earth_radius_m", s.earth_radius_m);
-  r.require_range("earth_radius_m", s.earth_radius_m, 1e6, 1e8, "metres");
+  s.earth_radius_m = r.number_in("earth_radius_m", s.earth_radius_m, 1e6, 1e8, "metres");
   s.land = r.text("land", s.land);
   r.require_one_of("land", s.land, {"hold", "strand"});
   s.depth = r.text("depth", s.depth);
   r.require_one_of("depth", s.depth, {"fixed", "band", "3d"});
-  s.band_top_m = r.number("band_top_m", s.band_top_m);
-  r.require_range("band_top_m", s.band_top_m, 0, 11000, "metres");
-  s.band_bottom_m = r.number("band_bottom_m", s.band_bottom_m);
-  r.require_range("band_bottom_m", s.band_bottom_m, 0, 11000, "metres");
+  s.band_top_m = r.number_in("band_top_m", s.band_top_m, 0, 11000, "metres");
+  s.band_bottom_m = r.number_in("band_bottom_m", s.band_bottom_m, 0, 11000, "metres");
   if (s.band_bottom_m < s.band_top_m) {
     r.fail("band_bottom_m", "must be >= band_top_m (" + std::to_string(s.band_top_m) +
                                 " m), found " + std::to_string(s.band_bottom_m));
   }
-  s.kv_m2_s = r.number("kv_m2_s", s.kv_m2_s);
-  r.require_range("kv_m2_s", s.kv_m2_s, 0, 10, "m2 s-1");
+  s.kv_m2_s = r.number_in("kv_m2_s", s.kv_m2_s, 0, 10, "m2 s-1");
   if (t != nullptr && t->get("depth_by_age") != nullptr) {
     const toml::node* n = t->get("depth_by_age");
     r.mark_known("depth_by_age");
@@ -291,8 +276,7 @@ MotionSettings read_motion(const toml::table* t, const Context& ctx, toml::sourc
       s.depth_by_age.push_back({v[0], v[1], v[2]});
     }
   }
-  s.swim_m_s = r.number("swim_m_s", s.swim_m_s);
-  r.require_range("swim_m_s", s.swim_m_s, 0, 1, "m s-1");
+  s.swim_m_s = r.number_in("swim_m_s", s.swim_m_s, 0, 1, "m s-1");
   s.kh_from = r.text("kh_from", s.kh_from);
   r.require_one_of("kh_from", s.kh_from, {"constant", "field", "smagorinsky"});
   s.kv_from = r.text("kv_from", s.kv_from);
@@ -301,8 +285,7 @@ MotionSettings read_motion(const toml::table* t, const Context& ctx, toml::sourc
   if (!dfile.empty()) s.diffusivity_file = existing_file(r, ctx, "diffusivity_file", dfile);
   s.kh_variable = r.text("kh_variable", s.kh_variable);
   s.kv_variable = r.text("kv_variable", s.kv_variable);
-  s.smagorinsky_c = r.number("smagorinsky_c", s.smagorinsky_c);
-  r.require_range("smagorinsky_c", s.smagorinsky_c, 0, 1, "dimensionless");
+  s.smagorinsky_c = r.number_in("smagorinsky_c", s.smagorinsky_c, 0, 1, "dimensionless");
   r.finish();
   return s;
 }
@@ -322,8 +305,7 @@ ConnectivitySettings read_connectivity(const toml::table* t, const Context& ctx,
                                        toml::source_region where) {
   SectionReader r(t, "connectivity", ctx.file, where);
   ConnectivitySettings s;
-  s.min_probability = r.number("min_probability", s.min_probability);
-  r.require_range("min_probability", s.min_probability, 0, 1, "probability");
+  s.min_probability = r.number_in("min_probability", s.min_probability, 0, 1, "probability");
   s.target_relative_error = r.number("target_relative_error", s.target_relative_error);
   r.require_positive("target_relative_error", s.target_relative_error, "relative standard error");
   s.confidence = r.number("confidence", s.confidence);
@@ -350,9 +332,7 @@ ConnectivitySettings read_connectivity(const toml::table* t, const Context& ctx,
       s.quantiles.push_back(q);
     }
   }
-  const std::int64_t generations = r.integer("generations", s.generations);
-  r.require_range("generations", static_cast<double>(generations), 1, 100, "generations");
-  s.generations = static_cast<int>(generations);
+  s.generations = r.int_in("generations", s.generations, 1, 100, "generations");
   s.lifetime_reproduction = r.number("lifetime_reproduction", s.lifetime_reproduction);
   r.require_positive("lifetime_reproduction", s.lifetime_reproduction, "settlers per settler");
   s.larval_output = r.text("larval_output", s.larval_output);
@@ -366,12 +346,8 @@ TrackSettings read_tracks(const toml::table* t, const Context& ctx, toml::source
   SectionReader r(t, "tracks", ctx.file, where);
   TrackSettings s;
   s.enabled = r.boolean("enabled", t != nullptr);  // a [tracks] section switches them on
-  const std::int64_t k = r.integer("every_particle", s.every_particle);
-  r.require_range("every_particle", static_cast<double>(k), 1, 1e9, "particles");
-  s.every_particle = static_cast<int>(k);
-  const std::int64_t m = r.integer("every_steps", s.every_steps);
-  r.require_range("every_steps", static_cast<double>(m), 1, 1e9, "steps");
-  s.every_steps = static_cast<int>(m);
+  s.every_particle = r.int_in("every_particle", s.every_particle, 1, 1e9, "particles");
+  s.every_steps = r.int_in("every_steps", s.every_steps, 1, 1e9, "steps");
   r.finish();
   return s;
 }
@@ -382,13 +358,9 @@ BackwardSettings read_backward(const toml::table* t, const Context& ctx, toml::s
   if (t == nullptr) return s;
   s.sink = r.required_text("sink");
   s.arrival = read_time(*t, "arrival", r);
-  s.hours = r.number("hours", s.hours);
-  r.require_range("hours", s.hours, 0, 24 * 366, "hours");
-  const std::int64_t n = r.integer("larvae", s.larvae);
-  r.require_range("larvae", static_cast<double>(n), 1, 1e8, "particles");
-  s.larvae = static_cast<int>(n);
-  s.depth_m = r.number("depth_m", s.depth_m);
-  r.require_range("depth_m", s.depth_m, 0, 11000, "metres");
+  s.hours = r.number_in("hours", s.hours, 0, 24 * 366, "hours");
+  s.larvae = r.int_in("larvae", s.larvae, 1, 1e8, "particles");
+  s.depth_m = r.number_in("depth_m", s.depth_m, 0, 11000, "metres");
   r.finish();
   return s;
 }
@@ -401,15 +373,11 @@ CullSettings read_cull(const toml::table* t, const Context& ctx, toml::source_re
     v = r.number(key, v);
     r.require_positive(key, v, unit);
   };
-  auto fraction = [&](const char* key, double& v) {
-    v = r.number(key, v);
-    r.require_range(key, v, 0, 1, "fraction");
-  };
-  s.vessel_days = r.number("vessel_days", s.vessel_days);
-  r.require_range("vessel_days", s.vessel_days, 0, 1e6, "vessel-days");
+  auto fraction = [&](const char* key, double& v) { v = r.number_in(key, v, 0, 1, "fraction"); };
+  s.vessel_days = r.number_in("vessel_days", s.vessel_days, 0, 1e6, "vessel-days");
   positive("effort_step_days", s.effort_step_days, "vessel-days");
-  s.max_days_per_reef = r.number("max_days_per_reef", s.max_days_per_reef);
-  r.require_range("max_days_per_reef", s.max_days_per_reef, 0, 1e6, "vessel-days");
+  s.max_days_per_reef =
+      r.number_in("max_days_per_reef", s.max_days_per_reef, 0, 1e6, "vessel-days");
   positive("efficiency_ha_per_day", s.efficiency_ha_per_day, "ha per vessel-day");
   const bool has_lon = r.has("home_lon"), has_lat = r.has("home_lat");
   if (has_lon != has_lat) {
@@ -422,26 +390,20 @@ CullSettings read_cull(const toml::table* t, const Context& ctx, toml::source_re
     r.require_range("home_lat", s.home_lat, -90, 90, "degrees north");
   }
   positive("speed_knots", s.speed_knots, "knots");
-  s.hours_per_day = r.number("hours_per_day", s.hours_per_day);
-  r.require_range("hours_per_day", s.hours_per_day, 1e-3, 24, "hours");
-  s.priority_threshold = r.number("priority_threshold", s.priority_threshold);
-  r.require_range("priority_threshold", s.priority_threshold, 0, 1, "priority");
-  const std::int64_t horizon = r.integer("horizon_seasons", s.horizon_seasons);
-  r.require_range("horizon_seasons", static_cast<double>(horizon), 1, 50, "seasons");
-  s.horizon_seasons = static_cast<int>(horizon);
-  const std::int64_t maturation = r.integer("maturation_seasons", s.maturation_seasons);
-  r.require_range("maturation_seasons", static_cast<double>(maturation), 1, 20, "seasons");
-  s.maturation_seasons = static_cast<int>(maturation);
+  s.hours_per_day = r.number_in("hours_per_day", s.hours_per_day, 1e-3, 24, "hours");
+  s.priority_threshold = r.number_in("priority_threshold", s.priority_threshold, 0, 1, "priority");
+  s.horizon_seasons = r.int_in("horizon_seasons", s.horizon_seasons, 1, 50, "seasons");
+  s.maturation_seasons = r.int_in("maturation_seasons", s.maturation_seasons, 1, 20, "seasons");
   fraction("juvenile_mortality_per_day", s.juvenile_mortality_per_day);
-  s.early_juvenile_days = r.number("early_juvenile_days", s.early_juvenile_days);
-  r.require_range("early_juvenile_days", s.early_juvenile_days, 0, 365 * s.maturation_seasons, "days");
+  s.early_juvenile_days = r.number_in("early_juvenile_days", s.early_juvenile_days, 0,
+                                      365 * s.maturation_seasons, "days");
   fraction("later_juvenile_survival_per_year", s.later_juvenile_survival_per_year);
   fraction("adult_survival_per_year", s.adult_survival_per_year);
   fraction("female_fraction", s.female_fraction);
   positive("eggs_per_female", s.eggs_per_female, "eggs per season");
   positive("reference_diameter_cm", s.reference_diameter_cm, "cm");
-  s.fecundity_exponent = r.number("fecundity_exponent", s.fecundity_exponent);
-  r.require_range("fecundity_exponent", s.fecundity_exponent, 0, 10, "dimensionless");
+  s.fecundity_exponent =
+      r.number_in("fecundity_exponent", s.fecundity_exponent, 0, 10, "dimensionless");
   positive("default_diameter_cm", s.default_diameter_cm, "cm");
   positive("open_class_width_cm", s.open_class_width_cm, "cm");
   fraction("fertilisation_peak", s.fertilisation_peak);
@@ -449,11 +411,8 @@ CullSettings read_cull(const toml::table* t, const Context& ctx, toml::source_re
   positive("aggregation_density_per_ha", s.aggregation_density_per_ha, "adults per hectare");
   s.method = r.text("method", s.method);
   r.require_one_of("method", s.method, {"auto", "exact", "greedy"});
-  const std::int64_t max_reefs = r.integer("exact_max_reefs", s.exact_max_reefs);
-  r.require_range("exact_max_reefs", static_cast<double>(max_reefs), 0, 24, "reefs");
-  s.exact_max_reefs = static_cast<int>(max_reefs);
-  s.exact_max_plans = r.number("exact_max_plans", s.exact_max_plans);
-  r.require_range("exact_max_plans", s.exact_max_plans, 0, 1e9, "plans");
+  s.exact_max_reefs = r.int_in("exact_max_reefs", s.exact_max_reefs, 0, 24, "reefs");
+  s.exact_max_plans = r.number_in("exact_max_plans", s.exact_max_plans, 0, 1e9, "plans");
   r.finish();
   return s;
 }

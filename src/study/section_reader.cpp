@@ -120,6 +120,20 @@ std::int64_t SectionReader::integer(const std::string& key, std::int64_t fallbac
   wrong_type(key, "a whole number");
 }
 
+double SectionReader::number_in(const std::string& key, double fallback, double low, double high,
+                                const char* unit) {
+  const double v = number(key, fallback);
+  require_range(key, v, low, high, unit);
+  return v;
+}
+
+int SectionReader::int_in(const std::string& key, int fallback, double low, double high,
+                          const char* unit) {
+  const std::int64_t v = integer(key, fallback);
+  require_range(key, static_cast<double>(v), low, high, unit);
+  return static_cast<int>(v);
+}
+
 bool SectionReader::boolean(const std::string& key, bool fallback) {
   const toml::node* n = node(key);
   if (n == nullptr) return fallback;

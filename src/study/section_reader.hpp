@@ -23,6 +23,11 @@ class SectionReader {
   double number(const std::string& key, double fallback);
   std::int64_t integer(const std::string& key, std::int64_t fallback);
   bool boolean(const std::string& key, bool fallback);
+  // number() / integer() checked with require_range(): the usual read of a
+  // bounded setting.
+  double number_in(const std::string& key, double fallback, double low, double high,
+                   const char* unit);
+  int int_in(const std::string& key, int fallback, double low, double high, const char* unit);
   bool has(const std::string& key) const;
   // Record a key read directly from the table (e.g. a TOML date-time).
   void mark_known(const std::string& key) { known_.push_back(key); }

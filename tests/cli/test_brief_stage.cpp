@@ -12,24 +12,17 @@
 #include <string>
 
 #include "cullcast/currents/synthetic_currents.hpp"
-#include "cullcast/drift/settlement_log.hpp"
+#include "../support/settlement_file.hpp"
+#include "../support/scratch_folder.hpp"
 
 namespace fs = std::filesystem;
 using Catch::Matchers::Contains;
+using cullcast::test::read_all;
 
 namespace {
 
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
-
-struct BriefWorkspace {
-  fs::path dir = fs::temp_directory_path() / ("cullcast-brief-" + std::to_string(::getpid()));
-  BriefWorkspace() {
-    fs::remove_all(dir);
+struct BriefWorkspace : cullcast::test::ScratchFolder {
+  BriefWorkspace() : ScratchFolder("brief") {
     fs::create_directories(dir / "out");
     cullcast::currents::SyntheticOptions o;
     o.kind = cullcast::currents::SyntheticKind::uniform;
@@ -73,40 +66,16 @@ vessel_days = 3
 max_days_per_reef = 2
 )";
   }
-  ~BriefWorkspace() {
-    std::error_code ignored;
-    fs::remove_all(dir, ignored);
-  }
-  int run(const std::string& args) const {
-    const std::string cmd = std::string(CULLCAST_EXE) + " " + args + " " + (dir / "s.toml").string() + " >" +
-                            (dir / "stdout").string() + " 2>" + (dir / "stderr").string();
-    return WEXITSTATUS(std::system(cmd.c_str()));
-  }
+  // `cullcast <args> s.toml`
+  int run(const std::string& args) const { return ScratchFolder::run(args + " " + (dir / "s.toml").string()); }
+  // Records released at time 0 and settled 20 days later.
   void write_settlement() const {
-    const int settlers[2][3][3] = {{{50, 10, 40}, {0, 60, 30}, {0, 0, 100}}, {{50, 20, 5}, {0, 60, 40}, {0, 5, 100}}};
-    cullcast::drift::LogTables t;
-    t.source_ids = {"R-0", "R-1", "P-2"};
-    t.source_kinds = {0, 0, 0};
-    t.source_reefs = {0, 1, 2};
-    t.reef_ids = t.source_ids;
-    t.event_labels = {"night 1", "night 2"};
-    t.event_starts_s = {0.0, 86400.0};
-    t.calendar = cullcast::currents::Calendar::from_name("standard");
-    cullcast::drift::SettlementLog log(dir / "out" / "settlement.nc", "", t);
-    for (std::uint32_t e = 0; e < 2; ++e) {
-      for (std::uint32_t s = 0; s < 3; ++s) {
-        cullcast::drift::FateCounts f;
-        f.released = 1000;
-        for (int j = 0; j < 3; ++j) {
-          for (int k = 0; k < settlers[e][s][j]; ++k) log.add({e, s, j, 0.0, 20 * 86400.0, 20 * 86400.0, 1.0});
-          f.settled += settlers[e][s][j];
-        }
-        f.settled_weight = static_cast<double>(f.settled);
-        f.died = f.released - f.settled;
-        log.set_fates(e, s, f);
-      }
-    }
-    log.commit();
+    cullcast::test::SettlementPlan plan;
+    plan.reef_ids = {"R-0", "R-1", "P-2"};
+    plan.event_starts_s = {0.0, 86400.0};
+    plan.release_s = {0.0, 0.0};
+    plan.settlers = {{{50, 10, 40}, {0, 60, 30}, {0, 0, 100}}, {{50, 20, 5}, {0, 60, 40}, {0, 5, 100}}};
+    cullcast::test::write_settlement(dir / "out" / "settlement.nc", plan);
   }
 };
 
@@ -115,13 +84,13 @@ max_days_per_reef = 2
 TEST_CASE("brief names the stage to run first when its inputs are missing") {
   BriefWorkspace w;
   CHECK(w.run("brief") == 3);  // docs/exit-codes.md: bad input
-  CHECK_THAT(slurp(w.dir / "stderr"), Contains("cullcast disperse"));
+  CHECK_THAT(read_all(w.dir / "stderr"), Contains("cullcast disperse"));
   w.write_settlement();
   CHECK(w.run("brief") == 3);
-  CHECK_THAT(slurp(w.dir / "stderr"), Contains("cullcast connect"));
+  CHECK_THAT(read_all(w.dir / "stderr"), Contains("cullcast connect"));
   REQUIRE(w.run("connect") == 0);
   CHECK(w.run("brief") == 3);
-  CHECK_THAT(slurp(w.dir / "stderr"), Contains("cullcast prioritise"));
+  CHECK_THAT(read_all(w.dir / "stderr"), Contains("cullcast prioritise"));
   CHECK_FALSE(fs::exists(w.dir / "out" / "briefing.html"));
 }
 
@@ -131,8 +100,8 @@ TEST_CASE("brief writes the page, the GeoPackage and the GeoTIFF from real stage
   REQUIRE(w.run("connect") == 0);
   REQUIRE(w.run("prioritise") == 0);
   REQUIRE(w.run("brief") == 0);
-  CHECK_THAT(slurp(w.dir / "stdout"), Contains("briefing.html"));
-  const std::string html = slurp(w.dir / "out" / "briefing.html");
+  CHECK_THAT(read_all(w.dir / "stdout"), Contains("briefing.html"));
+  const std::string html = read_all(w.dir / "out" / "briefing.html");
   CHECK_THAT(html, Contains("&lt;script&gt;alert(1)&lt;/script&gt;"));
   CHECK(html.find("<script") == std::string::npos);
   CHECK_THAT(html, Contains("Kestrel Reef"));
@@ -141,10 +110,10 @@ TEST_CASE("brief writes the page, the GeoPackage and the GeoTIFF from real stage
   const std::string gpkg = (w.dir / "out" / "briefing.gpkg").string();
   const std::string cmd = "ogrinfo -ro -so " + gpkg + " reefs > " + (w.dir / "ogr").string() + " 2>&1";
   REQUIRE(std::system(cmd.c_str()) == 0);
-  CHECK_THAT(slurp(w.dir / "ogr"), Contains("Feature Count: 3"));
+  CHECK_THAT(read_all(w.dir / "ogr"), Contains("Feature Count: 3"));
   const std::string tif = "gdalinfo " + (w.dir / "out" / "settlement_density.tif").string() + " > " +
                           (w.dir / "gdal").string() + " 2>&1";
   REQUIRE(std::system(tif.c_str()) == 0);
-  CHECK_THAT(slurp(w.dir / "gdal"), Contains("NoData Value=-9999"));
-  CHECK_THAT(slurp(w.dir / "gdal"), Contains("ID[\"EPSG\",4326]"));
+  CHECK_THAT(read_all(w.dir / "gdal"), Contains("NoData Value=-9999"));
+  CHECK_THAT(read_all(w.dir / "gdal"), Contains("ID[\"EPSG\",4326]"));
 }

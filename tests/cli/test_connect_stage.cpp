@@ -14,21 +14,17 @@
 #include <map>
 #include <sstream>
 #include <string>
+#include <vector>
 
-#include "cullcast/drift/settlement_log.hpp"
+#include "../support/settlement_file.hpp"
+#include "../support/scratch_folder.hpp"
 
 namespace fs = std::filesystem;
 using Catch::Detail::Approx;
 using Catch::Matchers::Contains;
+using cullcast::test::read_all;
 
 namespace {
-
-std::string read_all(const fs::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
 // Three square reefs 0.02 degrees wide on an invented coast.
 std::string reef_geojson() {
@@ -46,42 +42,21 @@ std::string reef_geojson() {
 }
 
 // Settlers by source (row) and reef (column) for two events of 1000 larvae per source.
-const int kSettlers[2][3][3] = {{{100, 20, 0}, {50, 200, 10}, {0, 30, 40}},
-                                {{80, 40, 0}, {50, 100, 10}, {0, 30, 60}}};
+const std::vector<std::vector<std::vector<int>>> kSettlers = {{{100, 20, 0}, {50, 200, 10}, {0, 30, 40}},
+                                                              {{80, 40, 0}, {50, 100, 10}, {0, 30, 60}}};
 
+// Each event's larvae are released at its start and settle 20 days later.
 void write_settlement(const fs::path& file) {
-  cullcast::drift::LogTables t;
-  t.source_ids = {"R-0", "R-1", "R-2"};
-  t.source_kinds = {0, 0, 0};
-  t.source_reefs = {0, 1, 2};
-  t.reef_ids = {"R-0", "R-1", "R-2"};
-  t.event_labels = {"night 1", "night 2"};
-  t.event_starts_s = {0.0, 30 * 86400.0};
-  t.calendar = cullcast::currents::Calendar::from_name("standard");
-  cullcast::drift::SettlementLog log(file, "", t);
-  for (std::uint32_t e = 0; e < 2; ++e) {
-    for (std::uint32_t s = 0; s < 3; ++s) {
-      cullcast::drift::FateCounts f;
-      f.released = 1000;
-      for (int j = 0; j < 3; ++j) {
-        for (int k = 0; k < kSettlers[e][s][j]; ++k) {
-          log.add({e, s, j, e * 30 * 86400.0, e * 30 * 86400.0 + 20 * 86400.0, 20 * 86400.0, 1.0});
-        }
-        f.settled += kSettlers[e][s][j];
-      }
-      f.settled_weight = static_cast<double>(f.settled);
-      f.died = f.released - f.settled;
-      log.set_fates(e, s, f);
-    }
-  }
-  log.commit();
+  cullcast::test::SettlementPlan plan;
+  plan.reef_ids = {"R-0", "R-1", "R-2"};
+  plan.event_starts_s = {0.0, 30 * 86400.0};
+  plan.release_s = plan.event_starts_s;
+  plan.settlers = kSettlers;
+  cullcast::test::write_settlement(file, plan);
 }
 
-struct Workspace {
-  fs::path dir;
-  Workspace() {
-    dir = fs::temp_directory_path() / ("cullcast-connect-" + std::to_string(::getpid()));
-    fs::remove_all(dir);
+struct Workspace : cullcast::test::ScratchFolder {
+  Workspace() : ScratchFolder("connect") {
     fs::create_directories(dir / "currents");
     std::ofstream(dir / "currents" / "a.nc") << "x";  // the loader only checks that it exists
     std::ofstream(dir / "reefs.geojson") << reef_geojson();
@@ -101,15 +76,6 @@ min_probability = 0.015
 larval_output = "equal"
 attribute = ["R-1"]
 )";
-  }
-  ~Workspace() {
-    std::error_code ignored;
-    fs::remove_all(dir, ignored);
-  }
-  int run(const std::string& args) const {
-    const std::string cmd = std::string(CULLCAST_EXE) + " " + args + " >" + (dir / "stdout").string() +
-                            " 2>" + (dir / "stderr").string();
-    return WEXITSTATUS(std::system(cmd.c_str()));
   }
 };
 

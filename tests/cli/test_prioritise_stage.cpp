@@ -11,19 +11,14 @@
 #include <string>
 #include <vector>
 
-#include "cullcast/drift/settlement_log.hpp"
+#include "../support/settlement_file.hpp"
+#include "../support/scratch_folder.hpp"
 
 namespace fs = std::filesystem;
 using Catch::Matchers::Contains;
+using cullcast::test::read_all;
 
 namespace {
-
-std::string read_all(const fs::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
-}
 
 std::vector<std::vector<std::string>> read_csv(const fs::path& p) {  // no quoted commas in the checked columns
   std::vector<std::vector<std::string>> rows;
@@ -57,42 +52,25 @@ std::string reef_geojson() {
 }
 
 // Settlers per source (row) and reef (column), two events of 1000 particles.
-const int kSettlers[2][4][4] = {{{50, 0, 0, 40}, {0, 60, 30, 0}, {0, 0, 50, 20}, {0, 0, 0, 100}},
-                                {{50, 0, 0, 5}, {0, 60, 40, 0}, {0, 0, 50, 30}, {0, 0, 0, 100}}};
+const std::vector<std::vector<std::vector<int>>> kSettlers = {
+    {{50, 0, 0, 40}, {0, 60, 30, 0}, {0, 0, 50, 20}, {0, 0, 0, 100}},
+    {{50, 0, 0, 5}, {0, 60, 40, 0}, {0, 0, 50, 30}, {0, 0, 0, 100}}};
 
+// Every record released at time 0 and settled 20 days later; of each source's
+// 1000 particles per event, 60 lost and 40 still drifting at the end.
 void write_settlement(const fs::path& file) {
-  cullcast::drift::LogTables t;
-  t.source_ids = {"R-0", "R-1", "R-2", "P-3"};
-  t.source_kinds = {0, 0, 0, 0};
-  t.source_reefs = {0, 1, 2, 3};
-  t.reef_ids = t.source_ids;
-  t.event_labels = {"night 1", "night 2"};
-  t.event_starts_s = {0.0, 30 * 86400.0};
-  t.calendar = cullcast::currents::Calendar::from_name("standard");
-  cullcast::drift::SettlementLog log(file, "", t);
-  for (std::uint32_t e = 0; e < 2; ++e) {
-    for (std::uint32_t s = 0; s < 4; ++s) {
-      cullcast::drift::FateCounts f;
-      f.released = 1000;
-      for (int j = 0; j < 4; ++j) {
-        for (int k = 0; k < kSettlers[e][s][j]; ++k) log.add({e, s, j, 0.0, 20 * 86400.0, 20 * 86400.0, 1.0});
-        f.settled += kSettlers[e][s][j];
-      }
-      f.settled_weight = static_cast<double>(f.settled);
-      f.died = f.released - f.settled - 100;
-      f.lost = 60;
-      f.drifting = 40;
-      log.set_fates(e, s, f);
-    }
-  }
-  log.commit();
+  cullcast::test::SettlementPlan plan;
+  plan.reef_ids = {"R-0", "R-1", "R-2", "P-3"};
+  plan.event_starts_s = {0.0, 30 * 86400.0};
+  plan.release_s = {0.0, 0.0};
+  plan.settlers = kSettlers;
+  plan.lost = 60;
+  plan.drifting = 40;
+  cullcast::test::write_settlement(file, plan);
 }
 
-struct Workspace {
-  fs::path dir;
-  Workspace() {
-    dir = fs::temp_directory_path() / ("cullcast-prioritise-" + std::to_string(::getpid()));
-    fs::remove_all(dir);
+struct Workspace : cullcast::test::ScratchFolder {
+  Workspace() : ScratchFolder("prioritise") {
     fs::create_directories(dir / "currents");
     std::ofstream(dir / "currents" / "a.nc") << "x";  // the loader only checks that it exists
     std::ofstream(dir / "reefs.geojson") << reef_geojson();
@@ -119,15 +97,6 @@ home_lat = -20.0
 horizon_seasons = 4
 maturation_seasons = 2
 )";
-  }
-  ~Workspace() {
-    std::error_code ignored;
-    fs::remove_all(dir, ignored);
-  }
-  int run(const std::string& args) const {
-    const std::string cmd = std::string(CULLCAST_EXE) + " " + args + " >" + (dir / "stdout").string() +
-                            " 2>" + (dir / "stderr").string();
-    return WEXITSTATUS(std::system(cmd.c_str()));
   }
 };
 

@@ -17,7 +17,9 @@
 #include <optional>
 #include <sstream>
 
-#include "../support/cf_axes.hpp"
+#include "../support/drift_scene.hpp"
+#include "../support/scratch_folder.hpp"
+#include "../support/uniform_currents.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_run.hpp"
 #include "cullcast/drift/earth_model.hpp"
@@ -34,133 +36,35 @@ constexpr double kDt = 900;            // time step of every scenario here, seco
 constexpr double kR = 6371000.0;       // sphere radius of the default earth model, metres
 constexpr double kPi = 3.14159265358979323846;
 
-// One synthetic currents file: uniform in space and time per depth level.
-struct CurrentsSpec {
-  std::string name = "c.nc";
-  std::size_t hours = 120;               // record length; frames hourly from 2026-12-01T00Z
-  std::vector<double> depths;            // depth levels (m, positive down); empty = 2-D
-  std::vector<double> u_m_s = {0.1};     // eastward velocity per level (one value for 2-D)
-  double u_until_hour = 1e9;             // frames after this hour are still water (u = 0)
-  std::optional<double> temperature_c;   // written in kelvin (CF canonical unit) unless temperature_degc
-  bool temperature_degc = false;         // write the temperature in degC (exact float values)
-  std::optional<double> chlorophyll_mg_m3;  // written in kg m-3 (CF canonical unit)
-};
+using test::CurrentsSpec;
 
-// Two reefs 0.18° apart on a 0.01° grid, 150.0..150.5°E, 20.2..20.0°S.
-// `aligned`: both reefs span the same latitudes (every eastward path from
-// one crosses the other).
-std::string reef_layer(bool aligned) {
-  const std::string lo = aligned ? "-20.12" : "-20.15", hi = aligned ? "-20.08" : "-20.05";
-  return R"({"type":"FeatureCollection","features":[
-{"type":"Feature","properties":{"id":"WEST","name":"West Test Reef","priority":0.2},
- "geometry":{"type":"Polygon","coordinates":[[[150.05,-20.12],[150.07,-20.12],[150.07,-20.08],[150.05,-20.08],[150.05,-20.12]]]}},
-{"type":"Feature","properties":{"id":"EAST","name":"East Test Reef","priority":0.9},
- "geometry":{"type":"Polygon","coordinates":[[[150.25,)" + lo + "],[150.27," + lo + "],[150.27," + hi +
-         "],[150.25," + hi + "],[150.25," + lo + "]]]}}\n]}";
-}
+struct Workspace : test::ScratchFolder {
+  explicit Workspace(const std::string& tag) : ScratchFolder("drift-e2e-" + tag) { write_reefs(false); }
 
-struct Workspace {
-  fs::path dir;
-  explicit Workspace(const std::string& tag) {
-    dir = fs::temp_directory_path() /
-          ("cullcast-drift-e2e-" + tag + "-" + std::to_string(reinterpret_cast<std::uintptr_t>(this)));
-    fs::remove_all(dir);
-    fs::create_directories(dir);
-    write_reefs(false);
+  // Two reefs 0.18° apart; `aligned`: both span the same latitudes.
+  void write_reefs(bool aligned) const {
+    std::ofstream(dir / "reefs.geojson") << test::reef_layer({test::kWestReef, test::east_reef(aligned)});
   }
-  ~Workspace() {
-    std::error_code ignored;
-    fs::remove_all(dir, ignored);
-  }
-  Workspace(const Workspace&) = delete;
-  Workspace& operator=(const Workspace&) = delete;
 
-  void write_reefs(bool aligned) const { std::ofstream(dir / "reefs.geojson") << reef_layer(aligned); }
-
-  void write_currents(const CurrentsSpec& c) const {
-    using namespace netCDF;
-    NcFile f((dir / c.name).string(), NcFile::replace, NcFile::nc4);
-    const std::size_t nt = c.hours + 1, ny = 21, nx = 51, nz = std::max<std::size_t>(1, c.depths.size());
-    const auto [t, y, x] = test::add_regular_axes(f, nt, ny, nx, 150.0, -20.2, 0.01);
-    std::vector<NcDim> dims{t, y, x};
-    if (!c.depths.empty()) {
-      const NcDim z = f.addDim("depth", nz);
-      NcVar vz = f.addVar("depth", ncDouble, z);
-      vz.putAtt("standard_name", "depth");  // CF-1.13 §4.3
-      vz.putAtt("units", "m");
-      vz.putAtt("positive", "down");
-      vz.putVar(c.depths.data());
-      dims = {t, z, y, x};
-    }
-    const std::size_t plane = ny * nx, n = nt * nz * plane;
-    auto per_level = [&](const std::vector<double>& by_level) {
-      std::vector<float> out(n);
-      for (std::size_t i = 0; i < n; ++i) out[i] = static_cast<float>(by_level[(i / plane) % nz]);
-      return out;
-    };
-    std::vector<float> u = per_level(c.u_m_s);
-    for (std::size_t i = 0; i < n; ++i) {
-      if (static_cast<double>(i / (nz * plane)) > c.u_until_hour) u[i] = 0.0f;
-    }
-    auto add = [&](const char* name, const char* standard, const char* units, const std::vector<float>& data) {
-      NcVar v = f.addVar(name, ncFloat, dims);
-      v.putAtt("standard_name", standard);
-      v.putAtt("units", units);
-      v.putVar(data.data());
-    };
-    add("u", "eastward_sea_water_velocity", "m s-1", u);
-    add("v", "northward_sea_water_velocity", "m s-1", std::vector<float>(n, 0.0f));
-    if (c.temperature_c) {
-      // CF standard name table v77: sea_water_temperature, canonical unit K.
-      const double value = c.temperature_degc ? *c.temperature_c : *c.temperature_c + 273.15;
-      add("temp", "sea_water_temperature", c.temperature_degc ? "degC" : "K",
-          std::vector<float>(n, static_cast<float>(value)));
-    }
-    if (c.chlorophyll_mg_m3) {
-      // CF standard name table v77: mass_concentration_of_chlorophyll_a_in_sea_water, kg m-3;
-      // 1 mg m-3 = 1e-6 kg m-3.
-      add("chl", "mass_concentration_of_chlorophyll_a_in_sea_water", "kg m-3",
-          std::vector<float>(n, static_cast<float>(*c.chlorophyll_mg_m3 * 1e-6)));
-    }
-  }
+  void write_currents(const CurrentsSpec& c) const { test::write_uniform_currents(dir, c); }
 
   // A scenario; `motion`, `larvae` are extra keys of those tables, `tail` extra tables.
   fs::path scenario(const std::string& currents, const std::string& motion = "", const std::string& larvae = "",
                     const std::string& tail = "", const std::string& spawning = "",
                     const std::string& file = "s.toml", const std::string& out = "out") const {
-    const std::string text = R"([study]
-name = "optional physics"
-seed = 11
-[currents]
-files = [")" + currents + R"("]
-[reefs]
-layer = "reefs.geojson"
-name = "name"
-priority = "priority"
-[[spawning]]
-start = "2026-12-01T06:00:00Z"
-hours = 0
-larvae_per_reef = 200
-)" + spawning + R"([larvae]
-precompetent_days = 1.0
-competent_days = 3.0
-mortality_per_day = 0.0
-)" + larvae + R"([motion]
-dt_minutes = 15
-)" + motion + R"([outputs]
-dir = ")" + out + R"("
-)" + tail;
-    std::ofstream(dir / file) << text;
+    test::ScenarioSpec spec;
+    spec.name = "optional physics";
+    spec.seed = 11;
+    spec.currents = currents;
+    spec.spawning = spawning;
+    spec.larvae = larvae;
+    spec.motion = motion;
+    spec.out = out;
+    spec.tail = tail;
+    std::ofstream(dir / file) << test::scenario_text(spec);
     return dir / file;
   }
 };
-
-drift::DriftSummary run(const study::Study& s) {
-  currents::CurrentField field = currents::CurrentField::open(s.currents);
-  const auto reef_set = reefs::ReefSet::load(s.reefs);
-  const auto sources = reefs::release_sources(reef_set, s);
-  return drift::run_drift(s, field, reef_set, sources);
-}
 
 study::Study load(const fs::path& scenario, std::vector<std::string> overrides = {}) {
   study::LoadOptions o;
@@ -172,13 +76,6 @@ study::Study load(const fs::path& scenario, std::vector<std::string> overrides =
 int shell(const std::string& command) {
   const int rc = std::system(command.c_str());
   return rc == -1 ? -1 : WEXITSTATUS(rc);
-}
-
-std::string slurp(const fs::path& p) {
-  std::ifstream in(p);
-  std::stringstream s;
-  s << in.rdbuf();
-  return s.str();
 }
 
 // "key value" lines printed by a checking script.
@@ -278,7 +175,7 @@ TEST_CASE("tracks section writes CF trajectories beside settlement.nc that follo
   w.write_currents(c);
   const int k = 7;
   const study::Study s = load(w.scenario(c.name, "", "", "[tracks]\nevery_particle = 7\nevery_steps = 4\n"));
-  const auto summary = run(s);
+  const auto summary = test::run_drift_from_files(s);
   const fs::path tracks = s.outputs.dir / "tracks.nc";
   REQUIRE(summary.tracks_netcdf == tracks);
   REQUIRE(fs::exists(tracks));
@@ -298,8 +195,8 @@ TEST_CASE("tracks section writes CF trajectories beside settlement.nc that follo
       << " " << k
       << " > " << (w.dir / "tracks.txt") << " 2> " << (w.dir / "tracks.err");
   REQUIRE(shell(cmd.str()) == 0);
-  INFO(slurp(w.dir / "tracks.err"));
-  auto r = key_values(slurp(w.dir / "tracks.txt"));
+  INFO(test::read_all(w.dir / "tracks.err"));
+  auto r = key_values(test::read_all(w.dir / "tracks.txt"));
   // CF-1.13 chapter 9 and appendix H.4.3 (contiguous ragged array):
   // featureType = "trajectory", one variable with cf_role = "trajectory_id",
   // a count variable with sample_dimension naming the obs dimension, whose
@@ -424,7 +321,7 @@ TEST_CASE("depth modes on a 3-D currents file: interpolated speed, band and wate
   SECTION("fixed depth 10 m drifts at the linearly interpolated 0.05 m/s") {
     const study::Study s = load(w.scenario(c.name, "depth = \"fixed\"\n", "", "", spawning),
                                 {"larvae.competent_days=4"});
-    run(s);
+    test::run_drift_from_files(s);
     const auto data = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
     check_conservation(data);
     REQUIRE(data.fates.size() == 2);
@@ -448,7 +345,7 @@ TEST_CASE("depth modes on a 3-D currents file: interpolated speed, band and wate
         load(w.scenario(c.name, "depth = \"band\"\nband_top_m = 5\nband_bottom_m = 15\nkv_m2_s = 0.01\n", "",
                         "[tracks]\nevery_particle = 5\nevery_steps = 1\n", spawning),
              {"larvae.competent_days=4"});
-    const auto summary = run(s);
+    const auto summary = test::run_drift_from_files(s);
     CHECK(summary.physics.find("depth band") != std::string::npos);
     check_conservation(drift::read_settlement_log(s.outputs.dir / "settlement.nc"));
     netCDF::NcFile f((s.outputs.dir / "tracks.nc").string(), netCDF::NcFile::read);
@@ -466,7 +363,7 @@ TEST_CASE("depth modes on a 3-D currents file: interpolated speed, band and wate
     const study::Study s = load(w.scenario(c.name, "depth = \"3d\"\nkv_m2_s = 0.01\n", "",
                                            "[tracks]\nevery_particle = 5\nevery_steps = 1\n", spawning),
                                 {"larvae.competent_days=4"});
-    const auto summary = run(s);
+    const auto summary = test::run_drift_from_files(s);
     CHECK(summary.physics.find("depth 3d") != std::string::npos);
     check_conservation(drift::read_settlement_log(s.outputs.dir / "settlement.nc"));
     netCDF::NcFile f((s.outputs.dir / "tracks.nc").string(), netCDF::NcFile::read);
@@ -493,7 +390,7 @@ TEST_CASE("temperature in the currents shifts settlement ages as the Q10 form of
     c.temperature_c = temperature_c;
     w.write_currents(c);
     const study::Study s = load(w.scenario(c.name, "", "", "", "", name + ".toml", name));
-    const auto summary = run(s);
+    const auto summary = test::run_drift_from_files(s);
     const auto data = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
     check_conservation(data);
     REQUIRE(data.records.size() == 400);  // both reefs settle on themselves
@@ -536,7 +433,7 @@ TEST_CASE("chlorophyll in the currents scales settler weights as Fabricius et al
     c.chlorophyll_mg_m3 = chl_mg_m3;
     w.write_currents(c);
     const study::Study s = load(w.scenario(c.name, "", "", "", "", name + ".toml", name));
-    const auto summary = run(s);
+    const auto summary = test::run_drift_from_files(s);
     CHECK(summary.physics.find("food-dependent completion") != std::string::npos);
     const auto data = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
     check_conservation(data);
@@ -578,7 +475,7 @@ TEST_CASE("without temperature/chlorophyll, or at the reference temperature, res
   auto records = [&](const std::string& currents, const std::string& larvae, const std::string& name,
                      std::string& physics) {
     const study::Study s = load(w.scenario(currents, "", larvae, "", "", name + ".toml", name), noise);
-    physics = run(s).physics;
+    physics = test::run_drift_from_files(s).physics;
     return drift::read_settlement_log(s.outputs.dir / "settlement.nc");
   };
   std::string p_core, p_auto, p_ref, p_off;
@@ -623,7 +520,7 @@ TEST_CASE("optional physics on: settlement records and tracks are bit-identical 
                                            name + ".toml", name),
                                 o);
     Result r;
-    r.physics = run(s).physics;
+    r.physics = test::run_drift_from_files(s).physics;
     r.data = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
     netCDF::NcFile f((s.outputs.dir / "tracks.nc").string(), netCDF::NcFile::read);
     r.lon = read_all<double>(f, "lon");
@@ -659,7 +556,7 @@ TEST_CASE("backward origins are identical for 1 and 2 threads with enough partic
                                            "arrival = 2026-12-05T00:00:00Z\nhours = 3\nlarvae = 5000\n",
                                            "", name + ".toml", name));
     currents::CurrentField field = currents::CurrentField::open(s.currents);
-    return slurp(drift::run_backward(s, field, reefs::ReefSet::load(s.reefs)));
+    return test::read_all(drift::run_backward(s, field, reefs::ReefSet::load(s.reefs)));
   };
   const std::string a = origins(1), b = origins(2);
   omp_set_num_threads(omp_get_num_procs());
@@ -679,8 +576,8 @@ TEST_CASE("cullcast disperse prints where it wrote tracks and backward origins")
   const fs::path out = w.dir / "stdout.txt", err = w.dir / "stderr.txt";
   const int rc = shell(exe.string() + " disperse " + scenario.string() + " > " + out.string() + " 2> " +
                        err.string());
-  const std::string text = slurp(out);
-  INFO("stdout:\n" << text << "\nstderr:\n" << slurp(err));
+  const std::string text = test::read_all(out);
+  INFO("stdout:\n" << text << "\nstderr:\n" << test::read_all(err));
   REQUIRE(rc == 0);
   auto printed_path = [&](const std::string& label) -> fs::path {
     const auto at = text.find("  " + label + ": ");
@@ -712,10 +609,10 @@ TEST_CASE("cullcast connect puts the backward origins beside the matrix attribut
   const int rc = shell(exe.string() + " disperse " + scenario.string() + " > " + out.string() + " 2> " +
                        err.string() + " && " + exe.string() + " connect " + scenario.string() + " >> " +
                        out.string() + " 2>> " + err.string());
-  const std::string text = slurp(out);
-  INFO("stdout:\n" << text << "\nstderr:\n" << slurp(err));
+  const std::string text = test::read_all(out);
+  INFO("stdout:\n" << text << "\nstderr:\n" << test::read_all(err));
   REQUIRE(rc == 0);
-  const std::string csv = slurp(w.dir / "out" / "origins_compared.csv");
+  const std::string csv = test::read_all(w.dir / "out" / "origins_compared.csv");
   CHECK(csv.rfind("sink_reef_id,origin_id,matrix_share,matrix_event_min,matrix_event_max,backward_share\n", 0) == 0);
   // Both methods name WEST as the only origin of EAST's settlers here: shares 1 and 1.
   CHECK(csv.find("\nEAST,WEST,1,1,1,1\n") != std::string::npos);

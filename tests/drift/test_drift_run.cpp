@@ -11,7 +11,9 @@
 #include <netcdf>
 #include <set>
 
-#include "../support/cf_axes.hpp"
+#include "../support/drift_scene.hpp"
+#include "../support/scratch_folder.hpp"
+#include "../support/uniform_currents.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/batch_queue.hpp"
 #include "cullcast/drift/drift_run.hpp"
@@ -27,99 +29,68 @@ namespace {
 
 constexpr double kU = 0.1;  // eastward current, m/s
 
-struct Workspace {
-  fs::path dir;
-  Workspace() {
-    dir = fs::temp_directory_path() /
-          ("cullcast-drift-run-" + std::to_string(reinterpret_cast<std::uintptr_t>(this)));
-    fs::create_directories(dir);
-    write_currents();
-    write_reefs();
-  }
-  ~Workspace() {
-    std::error_code ignored;
-    fs::remove_all(dir, ignored);
-  }
-
-  // Uniform eastward flow, hourly for 5 days, 0.01° grid.
-  void write_currents() const {
-    using namespace netCDF;
-    NcFile f((dir / "uniform.nc").string(), NcFile::replace, NcFile::nc4);
-    const std::size_t nt = 121, ny = 21, nx = 51;
-    const auto [t, y, x] = test::add_regular_axes(f, nt, ny, nx, 150.0, -20.2, 0.01);
-    NcVar u = f.addVar("u", ncFloat, {t, y, x}), v = f.addVar("v", ncFloat, {t, y, x});
-    u.putAtt("standard_name", "eastward_sea_water_velocity");
-    v.putAtt("standard_name", "northward_sea_water_velocity");
-    u.putAtt("units", "m s-1");
-    v.putAtt("units", "m s-1");
-    std::vector<float> uu(nt * ny * nx, static_cast<float>(kU)), vv(nt * ny * nx, 0.0f);
-    u.putVar(uu.data());
-    v.putVar(vv.data());
-  }
-
-  void write_reefs() const {
-    std::ofstream out(dir / "reefs.geojson");
-    out << R"({"type":"FeatureCollection","features":[
-{"type":"Feature","properties":{"id":"WEST","name":"West Test Reef","priority":0.2},
- "geometry":{"type":"Polygon","coordinates":[[[150.05,-20.12],[150.07,-20.12],[150.07,-20.08],[150.05,-20.08],[150.05,-20.12]]]}},
-{"type":"Feature","properties":{"id":"EAST","name":"East Test Reef","priority":0.9},
- "geometry":{"type":"Polygon","coordinates":[[[150.25,-20.15],[150.27,-20.15],[150.27,-20.05],[150.25,-20.05],[150.25,-20.15]]]}}
-]})";
+struct Workspace : test::ScratchFolder {
+  Workspace() : ScratchFolder("drift-run") {
+    // Uniform eastward flow, hourly for 5 days, 0.01° grid.
+    test::CurrentsSpec c;
+    c.name = "uniform.nc";
+    c.u_m_s = {kU};
+    test::write_uniform_currents(dir, c);
+    std::ofstream(dir / "reefs.geojson") << test::reef_layer({test::kWestReef, test::east_reef(false)});
   }
 
   study::Study study(const std::string& extra = "") const {
-    const std::string text = R"([study]
-name = "uniform flow"
-seed = 3
-[currents]
-files = ["uniform.nc"]
-[reefs]
-layer = "reefs.geojson"
-name = "name"
-priority = "priority"
-[[spawning]]
-start = "2026-12-01T06:00:00Z"
-hours = 0
-larvae_per_reef = 200
-[larvae]
-precompetent_days = 1.0
-competent_days = 3.0
-mortality_per_day = 0.0
-[motion]
-dt_minutes = 15
-[outputs]
-dir = "out"
-settlement_csv = true
-)" + extra;
-    std::ofstream(dir / "s.toml") << text;
+    test::ScenarioSpec spec;
+    spec.name = "uniform flow";
+    spec.seed = 3;
+    spec.currents = "uniform.nc";
+    spec.tail = "settlement_csv = true\n" + extra;
+    std::ofstream(dir / "s.toml") << test::scenario_text(spec);
     return study::load_study(dir / "s.toml");
   }
 };
-
-drift::DriftSummary run(const study::Study& s) {
-  currents::CurrentField field = currents::CurrentField::open(s.currents);
-  const auto reef_set = reefs::ReefSet::load(s.reefs);
-  const auto sources = reefs::release_sources(reef_set, s);
-  return drift::run_drift(s, field, reef_set, sources);
-}
 
 // Three reefs on one line of the eastward flow: larvae of WEST (19 km, 52 h)
 // and of MID (14 km, 38 h) both reach EAST when competent (> 1 day), so
 // their records interleave step by step; the random walk spreads them. Two
 // spawning events.
 study::Study three_reefs_in_line(const Workspace& w) {
-  std::ofstream(w.dir / "reefs.geojson") << R"({"type":"FeatureCollection","features":[
-{"type":"Feature","properties":{"id":"WEST","name":"West Test Reef","priority":0.2},
- "geometry":{"type":"Polygon","coordinates":[[[150.05,-20.12],[150.07,-20.12],[150.07,-20.08],[150.05,-20.08],[150.05,-20.12]]]}},
-{"type":"Feature","properties":{"id":"MID","name":"Middle Test Reef","priority":0.5},
- "geometry":{"type":"Polygon","coordinates":[[[150.12,-20.11],[150.14,-20.11],[150.14,-20.09],[150.12,-20.09],[150.12,-20.11]]]}},
-{"type":"Feature","properties":{"id":"EAST","name":"East Test Reef","priority":0.9},
- "geometry":{"type":"Polygon","coordinates":[[[150.25,-20.15],[150.27,-20.15],[150.27,-20.05],[150.25,-20.05],[150.25,-20.15]]]}}
-]})";
+  std::ofstream(w.dir / "reefs.geojson") << test::reef_layer({test::kWestReef, test::kMidReef, test::east_reef(false)});
   study::Study s = w.study("[[spawning]]\nstart = \"2026-12-01T12:00:00Z\"\nhours = 3\nlarvae_per_reef = 150\n");
   s.motion.kh_m2_s = 20;
   s.larvae.mortality_per_day = 0.2;
   return s;
+}
+
+// The study drifted by one process on one thread: the reference a shared or
+// queued drift must reproduce.
+struct Reference {
+  drift::DriftSummary summary;
+  drift::SettlementData data;
+  std::string csv;
+};
+
+Reference drift_alone(const study::Study& s, currents::CurrentField& field, const reefs::ReefSet& reef_set,
+                      const std::vector<reefs::ReleaseSource>& sources) {
+  omp_set_num_threads(1);
+  Reference r;
+  r.summary = drift::run_drift(s, field, reef_set, sources);
+  r.data = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
+  r.csv = test::read_all(s.outputs.dir / "settlement.csv");
+  REQUIRE(r.data.records.size() > 100);
+  return r;
+}
+
+// The final fates of a shared or queued drift against the reference's.
+void check_same_fates(const drift::SettlementData& got, const drift::SettlementData& expected) {
+  REQUIRE(got.fates.size() == expected.fates.size());
+  for (std::size_t i = 0; i < got.fates.size(); ++i) {
+    CHECK(got.fates[i].released == expected.fates[i].released);
+    CHECK(got.fates[i].settled == expected.fates[i].settled);
+    CHECK(got.fates[i].died == expected.fates[i].died);
+    CHECK(got.fates[i].lost == expected.fates[i].lost);
+    CHECK(got.fates[i].settled_weight == expected.fates[i].settled_weight);
+  }
 }
 
 }  // namespace
@@ -127,7 +98,7 @@ study::Study three_reefs_in_line(const Workspace& w) {
 TEST_CASE("uniform current carries larvae from the west reef to the east reef on time") {
   Workspace w;
   const study::Study s = w.study();
-  const auto summary = run(s);
+  const auto summary = test::run_drift_from_files(s);
   const auto data = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
   REQUIRE(data.tables.reef_ids == std::vector<std::string>{"WEST", "EAST"});
   REQUIRE(data.tables.source_ids == std::vector<std::string>{"WEST", "EAST"});
@@ -178,7 +149,7 @@ TEST_CASE("settlement records are bit-identical for 1 and 2 threads") {
                    "larvae.settle_rate_per_day=3", "spawning.hours=6"};
     w.study();  // writes s.toml
     const study::Study s = study::load_study(w.dir / "s.toml", o);
-    run(s);
+    test::run_drift_from_files(s);
     return drift::read_settlement_log(s.outputs.dir / "settlement.nc");
   };
   const auto a = records_with(1);
@@ -207,8 +178,9 @@ TEST_CASE("events beyond the currents' time span are refused before any output")
   o.overrides = {"spawning.start=2026-12-04T00:00:00Z"};
   w.study();
   const study::Study s = study::load_study(w.dir / "s.toml", o);
-  CHECK_THROWS_WITH(run(s), Catch::Matchers::Contains("needs currents from 2026-12-04T00:00:00Z") &&
-                                Catch::Matchers::Contains("cover 2026-12-01T00:00:00Z to 2026-12-06T00:00:00Z"));
+  CHECK_THROWS_WITH(test::run_drift_from_files(s),
+                    Catch::Matchers::Contains("needs currents from 2026-12-04T00:00:00Z") &&
+                        Catch::Matchers::Contains("cover 2026-12-01T00:00:00Z to 2026-12-06T00:00:00Z"));
   CHECK(!fs::exists(s.outputs.dir / "settlement.nc"));
 }
 
@@ -220,12 +192,9 @@ TEST_CASE("a drift shared between processes merges to the single-process records
   const auto sources = reefs::release_sources(reef_set, s);
   REQUIRE(sources.size() == 3);
 
-  omp_set_num_threads(1);
-  const drift::DriftSummary whole = drift::run_drift(s, field, reef_set, sources);
-  const auto expected = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
-  std::ifstream csv_in(s.outputs.dir / "settlement.csv");
-  const std::string expected_csv((std::istreambuf_iterator<char>(csv_in)), std::istreambuf_iterator<char>());
-  REQUIRE(expected.records.size() > 100);
+  const Reference ref = drift_alone(s, field, reef_set, sources);
+  const drift::DriftSummary& whole = ref.summary;
+  const drift::SettlementData& expected = ref.data;
   std::set<std::uint32_t> settling_sources;
   for (const auto& r : expected.records) settling_sources.insert(r.source);
   REQUIRE(settling_sources.size() >= 2);  // the merge has records of several sources to interleave
@@ -267,16 +236,8 @@ TEST_CASE("a drift shared between processes merges to the single-process records
     CHECK(a.age_s == b.age_s);
     CHECK(a.weight == b.weight);
   }
-  REQUIRE(got.fates.size() == expected.fates.size());
-  for (std::size_t i = 0; i < got.fates.size(); ++i) {
-    CHECK(got.fates[i].released == expected.fates[i].released);
-    CHECK(got.fates[i].settled == expected.fates[i].settled);
-    CHECK(got.fates[i].died == expected.fates[i].died);
-    CHECK(got.fates[i].lost == expected.fates[i].lost);
-    CHECK(got.fates[i].settled_weight == expected.fates[i].settled_weight);
-  }
-  std::ifstream csv_got(s.outputs.dir / "settlement.csv");
-  CHECK(std::string((std::istreambuf_iterator<char>(csv_got)), std::istreambuf_iterator<char>()) == expected_csv);
+  check_same_fates(got, expected);
+  CHECK(test::read_all(s.outputs.dir / "settlement.csv") == ref.csv);
   CHECK(merged.totals.settled == whole.totals.settled);
   CHECK(merged.totals.settled_weight == whole.totals.settled_weight);
   CHECK(merged.particle_steps == whole.particle_steps);
@@ -295,12 +256,9 @@ TEST_CASE("batches handed out by a queue, in chunks of any grouping, merge to th
   currents::CurrentField field = currents::CurrentField::open(s.currents);
   const auto reef_set = reefs::ReefSet::load(s.reefs);
   const auto sources = reefs::release_sources(reef_set, s);
-  omp_set_num_threads(1);
-  const drift::DriftSummary whole = drift::run_drift(s, field, reef_set, sources);
-  const auto expected = drift::read_settlement_log(s.outputs.dir / "settlement.nc");
-  std::ifstream csv_in(s.outputs.dir / "settlement.csv");
-  const std::string expected_csv((std::istreambuf_iterator<char>(csv_in)), std::istreambuf_iterator<char>());
-  REQUIRE(expected.records.size() > 100);
+  const Reference ref = drift_alone(s, field, reef_set, sources);
+  const drift::DriftSummary& whole = ref.summary;
+  const drift::SettlementData& expected = ref.data;
   fs::remove_all(s.outputs.dir);
 
   const auto batches = drift::list_batches(s, sources.size());
@@ -364,16 +322,8 @@ TEST_CASE("batches handed out by a queue, in chunks of any grouping, merge to th
     }
   }
   CHECK(differing == 0);
-  REQUIRE(got.fates.size() == expected.fates.size());
-  for (std::size_t i = 0; i < got.fates.size(); ++i) {
-    CHECK(got.fates[i].released == expected.fates[i].released);
-    CHECK(got.fates[i].settled == expected.fates[i].settled);
-    CHECK(got.fates[i].died == expected.fates[i].died);
-    CHECK(got.fates[i].lost == expected.fates[i].lost);
-    CHECK(got.fates[i].settled_weight == expected.fates[i].settled_weight);
-  }
-  std::ifstream csv_got(s.outputs.dir / "settlement.csv");
-  CHECK(std::string((std::istreambuf_iterator<char>(csv_got)), std::istreambuf_iterator<char>()) == expected_csv);
+  check_same_fates(got, expected);
+  CHECK(test::read_all(s.outputs.dir / "settlement.csv") == ref.csv);
   CHECK(merged.totals.settled == whole.totals.settled);
   CHECK(merged.particle_steps == whole.particle_steps);
   CHECK(merged.records == whole.records);

@@ -10,7 +10,9 @@
 #include <fstream>
 #include <netcdf>
 
-#include "../support/cf_axes.hpp"
+#include "../support/drift_scene.hpp"
+#include "../support/scratch_folder.hpp"
+#include "../support/uniform_currents.hpp"
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_run.hpp"
@@ -23,11 +25,8 @@ using namespace cullcast;
 
 namespace {
 
-struct TwoSeasons {
-  fs::path dir;
-  TwoSeasons() {
-    dir = fs::temp_directory_path() / ("cullcast-season-gap-" + std::to_string(reinterpret_cast<std::uintptr_t>(this)));
-    fs::create_directories(dir);
+struct TwoSeasons : test::ScratchFolder {
+  TwoSeasons() : ScratchFolder("season-gap") {
     write_season("season-2026.nc", "hours since 2026-12-01 00:00:00");
     write_season("season-2027.nc", "hours since 2027-12-01 00:00:00");
     std::ofstream(dir / "reefs.geojson") << R"({"type":"FeatureCollection","features":[
@@ -35,27 +34,16 @@ struct TwoSeasons {
  "geometry":{"type":"Polygon","coordinates":[[[150.20,-20.12],[150.22,-20.12],[150.22,-20.08],[150.20,-20.08],[150.20,-20.12]]]}}
 ]})";
   }
-  ~TwoSeasons() {
-    std::error_code ignored;
-    fs::remove_all(dir, ignored);
-  }
 
   // Still water at 18 degC, hourly for 5 days (121 frames).
   void write_season(const std::string& name, const std::string& time_units) const {
-    using namespace netCDF;
-    NcFile f((dir / name).string(), NcFile::replace, NcFile::nc4);
-    const std::size_t nt = 121, ny = 21, nx = 51;
-    const auto [t, y, x] = test::add_regular_axes(f, nt, ny, nx, 150.0, -20.2, 0.01, time_units);
-    auto field = [&](const char* vname, const char* standard_name, const char* units, float value) {
-      NcVar v = f.addVar(vname, ncFloat, {t, y, x});
-      v.putAtt("standard_name", standard_name);
-      v.putAtt("units", units);
-      std::vector<float> data(nt * ny * nx, value);
-      v.putVar(data.data());
-    };
-    field("u", "eastward_sea_water_velocity", "m s-1", 0.0f);
-    field("v", "northward_sea_water_velocity", "m s-1", 0.0f);
-    field("temp", "sea_water_temperature", "degC", 18.0f);
+    test::CurrentsSpec c;
+    c.name = name;
+    c.time_units = time_units;
+    c.u_m_s = {0.0};
+    c.temperature_c = 18.0;
+    c.temperature_degc = true;
+    test::write_uniform_currents(dir, c);
   }
 
   study::Study study(const std::string& spawning, const std::string& temperature_effect) const {
@@ -82,12 +70,6 @@ dir = "out"
   }
 };
 
-drift::DriftSummary run(const study::Study& s) {
-  currents::CurrentField field = currents::CurrentField::open(s.currents);
-  const auto reef_set = reefs::ReefSet::load(s.reefs);
-  return drift::run_drift(s, field, reef_set, reefs::release_sources(reef_set, s));
-}
-
 const std::string kOneNightEachSeason = R"(
 [[spawning]]
 label = "2026"
@@ -109,7 +91,7 @@ TEST_CASE("two seasons: the gap between the files is found, each season runs on 
   REQUIRE(field.gaps().size() == 1);
   CHECK(field.format_time(field.gaps()[0].from_s) == "2026-12-06T00:00:00Z");
   CHECK(field.format_time(field.gaps()[0].to_s) == "2027-12-01T00:00:00Z");
-  const auto summary = run(s);
+  const auto summary = test::run_drift_from_files(s);
   REQUIRE(summary.events.size() == 2);
   // Lifetime 2 days at the reference temperature (effect off): 48 hourly
   // steps per event, 50 larvae each, nothing left drifting.
@@ -126,7 +108,7 @@ TEST_CASE("two seasons: an event whose larval lifetime crosses the gap is refuse
   // 2026-12-04 + 2 days of larval life = 2026-12-06T12:00Z, past the last 2026 frame.
   const study::Study s = w.study("[[spawning]]\nstart = \"2026-12-04T12:00:00Z\"\nlarvae_per_reef = 10\n", "off");
   try {
-    run(s);
+    test::run_drift_from_files(s);
     FAIL("an event across the gap was accepted");
   } catch (const InputError& e) {
     const std::string m = e.what();
@@ -144,7 +126,7 @@ TEST_CASE("two seasons: slowed development stops at the gap instead of drifting 
   // (one Q10 step down), so the 2-day lifetime lasts ~12 calendar days: far
   // more than the 4 days left in the 2026 record after the first night.
   const study::Study s = w.study(kOneNightEachSeason, "auto");
-  const auto summary = run(s);
+  const auto summary = test::run_drift_from_files(s);
   REQUIRE(summary.events.size() == 2);
   const auto& first = summary.events[0];
   CHECK(first.fates.drifting > 0);

@@ -1,6 +1,7 @@
 #pragma once
 // Shared by the tests of single scenario sections: a minimal scenario and a
-// loader with file checks off (only the section under test matters).
+// loader with file checks off (only the section under test matters). The
+// tests take these names with `using namespace cullcast::test;`.
 #include <filesystem>
 #include <string>
 #include <vector>
@@ -10,7 +11,7 @@
 
 namespace cullcast::test {
 
-inline const std::string kBaseScenario = R"([currents]
+inline const std::string kBase = R"([currents]
 files = ["currents/*.nc"]
 [reefs]
 layer = "reefs.geojson"

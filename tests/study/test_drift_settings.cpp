@@ -3,24 +3,14 @@
 // [backward] (defaults, every key read, each check names the key).
 #include <catch2/catch.hpp>
 
-#include <filesystem>
 #include <string>
 
-#include "cullcast/base/error.hpp"
 #include "cullcast/study/load_study.hpp"
 #include "section_test_support.hpp"
 
-namespace fs = std::filesystem;
-using cullcast::InputError;
-using cullcast::study::LoadOptions;
-using cullcast::study::load_study_text;
 using Catch::Matchers::Contains;
 
-namespace {
-const std::string& kBase = cullcast::test::kBaseScenario;
-using cullcast::test::error_of;
-using cullcast::test::load;
-}  // namespace
+using namespace cullcast::test;  // kBase, load, error_of
 
 TEST_CASE("drift settings: documented defaults without the keys") {
   const auto s = load(kBase);
