@@ -938,19 +938,12 @@ bool CurrentField::horizontal_slice(double t_s, double depth_m, std::vector<floa
       out[2 * n + 1] = v0 + bf * (v1 - v0);
     }
   };
-  if (c == 4) {
-    blend(std::integral_constant<std::ptrdiff_t, 4>{});
-  } else if (c == 6) {
+  // A block holds 4 floats per node (u and v, then their changes over the
+  // interval), or 6 with vertical velocity (FlowSampler::channels).
+  if (c == 6) {
     blend(std::integral_constant<std::ptrdiff_t, 6>{});
   } else {
-    for (std::size_t n = 0; n < nodes; ++n) {
-      const float* p = top + n * c;
-      const float* q = below + n * c;
-      const float u0 = p[0] + af * p[2], v0 = p[1] + af * p[3];
-      const float u1 = q[0] + af * q[2], v1 = q[1] + af * q[3];
-      out[2 * n] = u0 + bf * (u1 - u0);
-      out[2 * n + 1] = v0 + bf * (v1 - v0);
-    }
+    blend(std::integral_constant<std::ptrdiff_t, 4>{});
   }
   return true;
 }
