@@ -5,33 +5,12 @@
 
 #include <stdexcept>
 
+#include "../support/release_batches.hpp"
 #include "cullcast/drift/batch_queue.hpp"
 
 using namespace cullcast::drift;
-
-namespace {
-
-// `per_event` sources per event, particles as given, 10 steps each.
-std::vector<ReleaseBatch> batches_of(const std::vector<std::uint64_t>& particles, std::size_t per_event) {
-  std::vector<ReleaseBatch> out;
-  for (std::size_t i = 0; i < particles.size(); ++i) {
-    ReleaseBatch b;
-    b.event = static_cast<std::uint32_t>(i / per_event);
-    b.source = static_cast<std::uint32_t>(i % per_event);
-    b.particles = particles[i];
-    b.steps = 10;
-    out.push_back(b);
-  }
-  return out;
-}
-
-double cost_of(const std::vector<ReleaseBatch>& b, std::size_t first, std::size_t last) {
-  double c = 0;
-  for (std::size_t i = first; i < last; ++i) c += b[i].cost();
-  return c;
-}
-
-}  // namespace
+using cullcast::test::batches_of;
+using cullcast::test::cost_of;
 
 TEST_CASE("queue_start: the first batch after the static share of the estimated cost", "[drift][share]") {
   // Costs 10, 30, 20, 40, 100 particle-steps x 10: total 2000.

@@ -9,31 +9,13 @@
 #include <numeric>
 #include <stdexcept>
 
+#include "../support/release_batches.hpp"
 #include "cullcast/drift/drift_share.hpp"
 
 using namespace cullcast;
 using namespace cullcast::drift;
 
 namespace {
-
-std::vector<ReleaseBatch> batches_with_costs(const std::vector<std::uint64_t>& particles) {
-  std::vector<ReleaseBatch> out;
-  for (std::size_t i = 0; i < particles.size(); ++i) {
-    ReleaseBatch b;
-    b.event = static_cast<std::uint32_t>(i / 4);
-    b.source = static_cast<std::uint32_t>(i % 4);
-    b.particles = particles[i];
-    b.steps = 10;
-    out.push_back(b);
-  }
-  return out;
-}
-
-double part_cost(const std::vector<ReleaseBatch>& b, std::size_t first, std::size_t last) {
-  double c = 0;
-  for (std::size_t i = first; i < last; ++i) c += b[i].cost();
-  return c;
-}
 
 SettlementRecord record(std::uint32_t source, double settle_s) {
   SettlementRecord r;
@@ -77,8 +59,8 @@ TEST_CASE("split_by_cost: contiguous parts covering every batch once, balanced w
     x = (x * 6364136223846793005ull + 1442695040888963407ull);
     particles.push_back(1 + (x >> 33) % 1000);
   }
-  const auto b = batches_with_costs(particles);
-  const double total = part_cost(b, 0, b.size());
+  const auto b = test::batches_of(particles, 4);
+  const double total = test::cost_of(b, 0, b.size());
   double largest = 0;
   for (const auto& q : b) largest = std::max(largest, q.cost());
   for (std::size_t parts : {1u, 2u, 3u, 7u, 16u, 97u}) {
@@ -89,14 +71,14 @@ TEST_CASE("split_by_cost: contiguous parts covering every batch once, balanced w
     CHECK(cuts.back() == b.size());
     CHECK(std::is_sorted(cuts.begin(), cuts.end()));
     for (std::size_t k = 0; k < parts; ++k) {
-      const double c = part_cost(b, cuts[k], cuts[k + 1]);
+      const double c = test::cost_of(b, cuts[k], cuts[k + 1]);
       CHECK(std::abs(c - total / static_cast<double>(parts)) <= largest);
     }
   }
 }
 
 TEST_CASE("split_by_cost: equal batches split evenly; more parts than batches leaves parts empty", "[drift][share]") {
-  const auto b = batches_with_costs({5, 5, 5, 5, 5, 5});
+  const auto b = test::batches_of({5, 5, 5, 5, 5, 5}, 4);
   CHECK(split_by_cost(b, 2) == std::vector<std::size_t>{0, 3, 6});
   CHECK(split_by_cost(b, 3) == std::vector<std::size_t>{0, 2, 4, 6});
   const auto many = split_by_cost(b, 8);
@@ -109,12 +91,12 @@ TEST_CASE("split_by_cost: equal batches split evenly; more parts than batches le
   CHECK(empty == 2);
   // One heavy batch among light ones (costs 10, 10, 100, 10; half = 65): the
   // boundaries around it lie at 20 and 120, and 20 is nearer.
-  CHECK(split_by_cost(batches_with_costs({1, 1, 10, 1}), 2) == std::vector<std::size_t>{0, 2, 4});
+  CHECK(split_by_cost(test::batches_of({1, 1, 10, 1}, 4), 2) == std::vector<std::size_t>{0, 2, 4});
   CHECK_THROWS_AS(split_by_cost(b, 0), std::invalid_argument);
 }
 
 TEST_CASE("DriftShare::of marks exactly the batches of a part", "[drift][share]") {
-  const auto b = batches_with_costs({1, 1, 1, 1, 1, 1, 1, 1});  // 2 events x 4 sources
+  const auto b = test::batches_of({1, 1, 1, 1, 1, 1, 1, 1}, 4);  // 2 events x 4 sources
   const DriftShare share = DriftShare::of(b, 3, 6, 2, 4);
   CHECK(share.sources_of(0, 4) == std::vector<std::uint32_t>{3});
   CHECK(share.sources_of(1, 4) == std::vector<std::uint32_t>{0, 1});
