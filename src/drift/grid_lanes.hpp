@@ -7,8 +7,8 @@
 // with no fused multiply-add contraction (CMakeLists.txt) and only IEEE
 // operations (+ − × ÷ √, conversions), every variant gives the same bits.
 //
-// Each lane computes exactly what the scalar code it replaced computed, in
-// the same order, so results do not depend on the batching either.
+// Each lane's arithmetic depends only on its own particle, so results do not
+// depend on the batching (nor on the thread count) either.
 #include <bit>
 #include <cmath>
 #include <cstdint>
