@@ -11,13 +11,15 @@
 //   bench_drift [particles=1000000] [steps=36] [only-production]
 //
 // With a third argument "only-production" it times the grid stepper on one
-// thread and stops (for profiling with perf).
+// thread (or OMP_NUM_THREADS) and stops (for profiling with perf).
 #include <omp.h>
 
+#include <algorithm>
 #include <chrono>
 #include <ctime>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <filesystem>
 #include <netcdf>
 #include <string>
@@ -204,7 +206,9 @@ int main(int argc, char** argv) {
   std::printf("grid stepper kernel: %s (CULLCAST_VECTOR_ISA caps it)\n",
               drift::GridStepper::isa_name(drift::GridStepper(field, earth).instruction_set()));
   if (argc > 3 && std::string(argv[3]) == "only-production") {
-    measure(1, "production step (grid stepper):", true, s, clock);
+    const char* threads = std::getenv("OMP_NUM_THREADS");
+    measure(threads != nullptr ? std::max(1, std::atoi(threads)) : 1, "production step (grid stepper):", true, s,
+            clock);
     return 0;
   }
   for (int threads : {1, 2}) {
