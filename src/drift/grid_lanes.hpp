@@ -79,10 +79,12 @@ inline double floor_by_rounding(double q) noexcept {
   return r - (r > q ? 1.0 : 0.0);
 }
 
-// Fractional node coordinates (cx, cy) of a position, clamped to (0, 0)
-// outside the grid (also for NaN); `inside` says which. Conditions are
-// combined with & and | (not && and ||) so the loop stays free of branches.
-inline void cell(const Grid& g, double lon, double lat, double& cx, double& cy, bool& inside) noexcept {
+// The cell holding a position: its south-west node (i, j) and the fractions
+// (fx, fy) across it, with (0, 0) standing in outside the grid (also for
+// NaN); `inside` says which. Conditions are combined with & and | (not &&
+// and ||) so the loops calling this stay free of branches.
+inline void cell(const Grid& g, double lon, double lat, std::int32_t& i, std::int32_t& j, double& fx, double& fy,
+                 bool& inside) noexcept {
   double x = lon - g.lon0;
   // Longitudes east of the grid's start, in [0, 360): a multiplication, not
   // a division (several times cheaper in vector units); the two corrections
@@ -93,8 +95,21 @@ inline void cell(const Grid& g, double lon, double lat, double& cx, double& cy, 
   x = ((x < 0.0) | (x >= 360.0)) ? wrapped : x;
   const double gx = x * g.inv_dlon, gy = (lat - g.lat0) * g.inv_dlat;
   inside = (gx <= g.gx_max) & (gy >= 0.0) & (gy <= g.gy_max);
-  cx = inside ? gx : 0.0;
-  cy = inside ? gy : 0.0;
+  const double cx = inside ? gx : 0.0, cy = inside ? gy : 0.0;
+  const std::int32_t i_max = g.nx - 2, j_max = g.ny - 2;
+  i = static_cast<std::int32_t>(cx);
+  j = static_cast<std::int32_t>(cy);
+  i = i > i_max ? i_max : i;  // the last node belongs to the cell before it
+  j = j > j_max ? j_max : j;
+  fx = cx - static_cast<double>(i);
+  fy = cy - static_cast<double>(j);
+}
+
+// The grid row nearest a latitude, clamped to the grid (also NaN -> row 0).
+inline std::int32_t nearest_row(const Grid& g, double lat) noexcept {
+  double r = (lat - g.lat0) * g.inv_dlat + 0.5;
+  r = r >= 0.0 ? (r > g.gy_max ? g.gy_max : r) : 0.0;
+  return static_cast<std::int32_t>(r);
 }
 
 // `value` where `keep`, else +0.0, as bit operations: a select the compiler
@@ -124,16 +139,12 @@ inline float high_float(std::uint64_t pair) noexcept {
                                             const double* __restrict ys, double* __restrict u,
                                             double* __restrict v, std::uint32_t* __restrict row) noexcept {
   const Grid local = g;  // a copy the stores below cannot alias (keeps it in registers)
-  const std::int32_t i_max = local.nx - 2, j_max = local.ny - 2;
   const auto nx = static_cast<std::uint32_t>(local.nx);
   for (int l = 0; l < kLanes; ++l) {
-    double cx, cy;
+    std::int32_t i, j;
+    double fx, fy;
     bool inside;
-    cell(local, xs[l], ys[l], cx, cy, inside);
-    std::int32_t i = static_cast<std::int32_t>(cx), j = static_cast<std::int32_t>(cy);
-    i = i > i_max ? i_max : i;
-    j = j > j_max ? j_max : j;
-    const double fx = cx - static_cast<double>(i), fy = cy - static_cast<double>(j);
+    cell(local, xs[l], ys[l], i, j, fx, fy, inside);
     // Unsigned 32-bit offsets: they widen to addresses without SSE4.1.
     const std::uint32_t k = 2 * (static_cast<std::uint32_t>(j) * nx + static_cast<std::uint32_t>(i)),
                         k2 = k + 2 * nx;
@@ -173,9 +184,7 @@ template <bool Sphere>
   const Grid local = g;
   std::int32_t far[kLanes];
   for (int l = 0; l < kLanes; ++l) {
-    double r = (lat[l] - local.lat0) * local.inv_dlat + 0.5;
-    r = r >= 0.0 ? (r > local.gy_max ? local.gy_max : r) : 0.0;  // also NaN -> 0
-    const auto j = static_cast<std::int32_t>(r);                 // nearest row
+    const std::int32_t j = nearest_row(local, lat[l]);
     const double d = (lat[l] - (local.lat0 + static_cast<double>(j) * local.dlat)) * kRad;
     const double d2 = d * d;
     const double cd = 1 - d2 * (0.5 - d2 * (1.0 / 24 - d2 * (1.0 / 720 - d2 * (1.0 / 40320))));
@@ -236,9 +245,7 @@ struct StartRows {
 [[gnu::always_inline]] inline void start_rows(const Grid& g, const Batch& b, StartRows& rows) noexcept {
   const Grid local = g;
   for (int l = 0; l < kLanes; ++l) {
-    double r = (b.lat0[l] - local.lat0) * local.inv_dlat + 0.5;
-    r = r >= 0.0 ? (r > local.gy_max ? local.gy_max : r) : 0.0;  // also NaN -> 0
-    const auto j = static_cast<std::uint32_t>(r);
+    const auto j = static_cast<std::uint32_t>(nearest_row(local, b.lat0[l]));
     rows.m_lon[l] = local.row_m_per_deg_lon[j];
     rows.m_lat[l] = local.row_m_per_deg_lat[j];
     rows.east[l] = local.row_east[j];
@@ -249,17 +256,14 @@ struct StartRows {
 // Water, land or outside for every lane's end position.
 [[gnu::always_inline]] inline void where(const Grid& g, Batch& b) noexcept {
   const Grid local = g;
-  const std::int32_t i_max = local.nx - 2, j_max = local.ny - 2;
   const auto nx = static_cast<std::uint32_t>(local.nx);
   for (int l = 0; l < kLanes; ++l) {
-    double cx, cy;
+    std::int32_t i, j;
+    double fx, fy;
     bool inside;
-    cell(local, b.lon[l], b.lat[l], cx, cy, inside);
-    std::int32_t i = static_cast<std::int32_t>(cx), j = static_cast<std::int32_t>(cy);
-    i = i > i_max ? i_max : i;
-    j = j > j_max ? j_max : j;
-    const std::int32_t in = i + (cx - static_cast<double>(i) > 0.5 ? 1 : 0);
-    const std::int32_t jn = j + (cy - static_cast<double>(j) > 0.5 ? 1 : 0);
+    cell(local, b.lon[l], b.lat[l], i, j, fx, fy, inside);
+    const std::int32_t in = i + (fx > 0.5 ? 1 : 0);  // the nearest node
+    const std::int32_t jn = j + (fy > 0.5 ? 1 : 0);
     const std::int32_t wet = local.wet[static_cast<std::uint32_t>(jn) * nx + static_cast<std::uint32_t>(in)];
     const std::int32_t on_grid = wet != 0 ? kWater : kLand;
     b.where[l] = inside ? on_grid : kOutside;
