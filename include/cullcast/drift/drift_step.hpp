@@ -86,8 +86,12 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
                 stranded = 0, lost = 0;
   double max_speed = 0;
 
-#pragma omp parallel for schedule(static) if (n > 4096) reduction(+ : particle_steps, land_contacts, released, \
-                                                        settled, died, stranded, lost)           \
+  // Chunks handed out as threads finish: larvae leave the grid or settle
+  // unevenly along the array, so equal static shares would leave one thread
+  // idle. Each particle's result is its own (and the tallies are sums and a
+  // maximum), so the schedule does not change a bit.
+#pragma omp parallel for schedule(dynamic, 512) if (n > 4096) reduction(+ : particle_steps, land_contacts, \
+                                                        released, settled, died, stranded, lost)        \
     reduction(max : max_speed)
   for (std::int64_t i = 0; i < n; ++i) {
     Fate fate = p.fate[i];
