@@ -210,21 +210,6 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
     std::int64_t idx[kLanes];
     int m = 0;
     const std::int64_t end = std::min(n, (batch + 1) * kLanes);
-    {
-      // The particle arrays stream from memory once per step: ask for the
-      // lines a few batches ahead, so the loads below do not wait for them.
-      const std::int64_t ahead = std::min(n - 1, batch * kLanes + 8 * kLanes);
-      __builtin_prefetch(&p.lon[ahead], 1);
-      __builtin_prefetch(&p.lon[ahead + 8 < n ? ahead + 8 : ahead], 1);
-      __builtin_prefetch(&p.lat[ahead], 1);
-      __builtin_prefetch(&p.lat[ahead + 8 < n ? ahead + 8 : ahead], 1);
-      __builtin_prefetch(&p.weight[ahead], 1);
-      __builtin_prefetch(&p.weight[ahead + 8 < n ? ahead + 8 : ahead], 1);
-      __builtin_prefetch(&p.source[ahead], 0);
-      __builtin_prefetch(&p.index[ahead], 0);
-      __builtin_prefetch(&p.release_s[ahead], 0);
-      __builtin_prefetch(&p.fate[ahead], 1);
-    }
     for (std::int64_t i = batch * kLanes; i < end; ++i) {
       Fate fate = p.fate[i];
       if (fate == Fate::waiting) {
