@@ -406,7 +406,10 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       steps = std::max(steps, static_cast<std::uint32_t>(std::floor(room / step.dt_s + 1e-9)));
     }
     // The core path on a uniform regular grid has a faster stepper (grid_stepper.hpp).
-    const bool on_grid = !use_extras && GridStepper::applies(field, p);
+    // The grid stepper also takes temperature/food effects (they act per
+    // particle after the move); depth motion and varying Kh need the generic step.
+    const bool grid_extras_free = !extras.depth.moves() && !extras.kh_varies();
+    const bool on_grid = grid_extras_free && GridStepper::applies(field, p);
     if (on_grid) {
       summary.stepper = std::string("grid stepper, ") + GridStepper::isa_name(grid_stepper.instruction_set()) + " kernel";
     } else if (summary.stepper.empty()) {
@@ -425,8 +428,8 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       const double t0 = step.event_start_s + k * step.dt_s;
       field.prepare(t0, t0 + step.dt_s);
       const StepTally tally =
-          use_extras   ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
-          : on_grid    ? grid_stepper.step(p, k, step, clock, lookup, rng, settled_now)
+          on_grid      ? grid_stepper.step(p, k, step, clock, lookup, rng, settled_now, extras.environment)
+          : use_extras ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
                        : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
       if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);
       if (share.poll) share.poll();

@@ -6,6 +6,7 @@
 #include <string>
 
 #include "cullcast/base/error.hpp"
+#include "cullcast/drift/development_step.hpp"
 #include "grid_lanes.hpp"
 
 namespace cullcast::drift {
@@ -30,6 +31,17 @@ using lanes::kRad;
   lanes::advance(g, plan, b);
 }
 #endif
+
+// Temperature and chlorophyll as the generic step's fields give them.
+struct FieldScalars {
+  const currents::CurrentField& field;
+  double temperature_c(double t, double lon, double lat, double d) const noexcept {
+    return field.sample_scalar(currents::ScalarKind::temperature, t, lon, lat, d);
+  }
+  double chlorophyll_mg_m3(double t, double lon, double lat, double d) const noexcept {
+    return field.sample_scalar(currents::ScalarKind::chlorophyll, t, lon, lat, d);
+  }
+};
 
 using AdvanceFn = void (*)(const lanes::Grid&, const lanes::StepPlan&, lanes::Batch&) noexcept;
 
@@ -136,7 +148,7 @@ GridStepper::GridStepper(const currents::CurrentField& field, const EarthModel& 
 
 StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
                             const reefs::ReefLookup& reefs, const CounterRandom& rng,
-                            std::vector<std::uint8_t>& settled_now) {
+                            std::vector<std::uint8_t>& settled_now, const LarvalEnvironment& environment) {
   const double t0 = step * s.dt_s;  // seconds since the event start
   const double t0_model = s.event_start_s + t0;
   const double t1 = t0 + s.dt_s;
@@ -190,6 +202,9 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   const bool constant_hazard = clock.constant_hazard();
   const std::int64_t n = static_cast<std::int64_t>(p.size());
   settled_now.assign(p.size(), 0);
+  const bool develops = environment.any();
+  const FieldScalars scalars{field_};
+  const double t_mid_model = t0_model + 0.5 * s.dt_s;
 
   std::uint64_t particle_steps = 0, land_contacts = 0, released = 0, settled = 0, died = 0, stranded = 0,
                 lost = 0;
@@ -261,8 +276,17 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
       const StreamId id{s.event, p.source[i], p.index[i]};
       const double age0 = t0 - p.release_s[i];
       const double age1 = t1 - p.release_s[i];
+      double development = age1;  // the real age unless temperature/food act
+      if (develops) {
+        development = develop(p, i, id, step, environment, scalars, t_mid_model, lon, lat, depth, s.dt_s, age1,
+                              clock, rng);
+        if (development < 0) {
+          ++died;
+          continue;
+        }
+      }
       const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
-      switch (end_step(p, i, id, step, survive, age1, lon, lat, settle_p, clock, reefs, rng)) {
+      switch (end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, reefs, rng)) {
         case StepEnd::died: ++died; break;
         case StepEnd::settled: settled_now[i] = 1; ++settled; break;
         case StepEnd::drifting: break;

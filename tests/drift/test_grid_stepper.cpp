@@ -15,6 +15,7 @@
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_step.hpp"
 #include "cullcast/drift/grid_stepper.hpp"
+#include "cullcast/drift/step_extras.hpp"
 #include "cullcast/reefs/reef_lookup.hpp"
 
 namespace fs = std::filesystem;
@@ -28,7 +29,7 @@ constexpr double kPi = 3.14159265358979323846;
 // frames, `nx` x `ny` nodes of `step_deg` from (lon0, lat0); or a uniform
 // eastward current of `uniform_u` m/s when that is not 0.
 fs::path write_flow(const fs::path& dir, std::size_t nx, std::size_t ny, double lon0, double lat0, double step_deg,
-                    double uniform_u = 0.0) {
+                    double uniform_u = 0.0, bool environment = false) {
   using namespace netCDF;
   fs::create_directories(dir);
   const fs::path file = dir / "flow.nc";
@@ -65,6 +66,29 @@ fs::path write_flow(const fs::path& dir, std::size_t nx, std::size_t ny, double 
   }
   u.putVar(uu.data());
   v.putVar(vv.data());
+  if (environment) {
+    // Warmer to the east (24-32 degC, with a tidal swing), more chlorophyll
+    // to the north (0.3-2.4 mg m-3): larvae develop and feed unevenly.
+    NcVar temp = f.addVar("temp", ncFloat, {t, y, x}), chl = f.addVar("chl", ncFloat, {t, y, x});
+    temp.putAtt("standard_name", "sea_water_temperature");
+    temp.putAtt("units", "degC");
+    chl.putAtt("standard_name", "mass_concentration_of_chlorophyll_a_in_sea_water");
+    chl.putAtt("units", "mg m-3");
+    for (std::size_t k = 0; k < nt; ++k) {
+      const double tide = std::cos(2 * kPi * static_cast<double>(k) / 12.42);
+      for (std::size_t j = 0; j < ny; ++j) {
+        for (std::size_t i = 0; i < nx; ++i) {
+          const std::size_t n = (k * ny + j) * nx + i;
+          const double east = static_cast<double>(i) / static_cast<double>(nx - 1);
+          const double north = static_cast<double>(j) / static_cast<double>(ny - 1);
+          uu[n] = static_cast<float>(24.0 + 8.0 * east + 0.5 * tide);
+          vv[n] = static_cast<float>(0.3 * std::exp2(3.0 * north));
+        }
+      }
+    }
+    temp.putVar(uu.data());
+    chl.putVar(vv.data());
+  }
   return file;
 }
 
@@ -183,6 +207,105 @@ TEST_CASE("grid stepper follows the generic step on a coarse grid (exact metric 
   const Outcome generic = run(false, file, start, drift::Scheme::rk4, 50.0, reef_set, 60, earth);
   CHECK(fast.steps == generic.steps);
   compare(fast, generic, 1e-6);
+  fs::remove_all(dir);
+}
+
+namespace {
+
+// Temperature and chlorophyll as the production study reads them (drift_run.cpp's FieldSources).
+struct CurrentScalars {
+  const currents::CurrentField* field;
+  double kh(double, double, double) const noexcept { return std::nan(""); }  // constant Kh in these studies
+  double kv(double, double, double) const noexcept { return std::nan(""); }
+  double sea_floor_m(double, double) const noexcept { return HUGE_VAL; }
+  double temperature_c(double t, double lon, double lat, double d) const noexcept {
+    return field->sample_scalar(currents::ScalarKind::temperature, t, lon, lat, d);
+  }
+  double chlorophyll_mg_m3(double t, double lon, double lat, double d) const noexcept {
+    return field->sample_scalar(currents::ScalarKind::chlorophyll, t, lon, lat, d);
+  }
+};
+
+// Temperature- and food-dependent larvae through either path.
+drift::ParticleSet run_developing(bool grid, const fs::path& file, drift::ParticleSet p,
+                                  const reefs::ReefSet& reef_set, const std::string& mortality_as) {
+  currents::CurrentField field = currents::CurrentField::open_files({file.string()});
+  field.enable_scalar(currents::ScalarKind::temperature);
+  field.enable_scalar(currents::ScalarKind::chlorophyll);
+  study::LarvaeSettings larvae;
+  larvae.precompetent_days = 0.06;  // competent after 86 min at 28 degC
+  larvae.competent_days = 1.0;
+  larvae.mortality_per_day = 0.5;
+  larvae.mortality_as = mortality_as;
+  const drift::LarvalClock clock(larvae);
+  const drift::LarvalEnvironment environment(larvae, true, true);
+  const reefs::ReefLookup lookup(reef_set, 0.0);
+  const CounterRandom rng(5);
+  const auto earth = drift::EarthModel::sphere(6371000.0);
+  drift::StepSettings s;
+  s.event_start_s = field.time_begin_s();
+  s.dt_s = 600;
+  s.kh_m2_s = 1.0;
+  const CurrentScalars scalars{&field};
+  drift::StepExtras<CurrentScalars> extras;
+  extras.fields = &scalars;
+  extras.kh_m2_s = s.kh_m2_s;
+  extras.environment = environment;
+  drift::GridStepper stepper(field, earth);
+  p.enable_development();
+  std::vector<std::uint8_t> now;
+  for (std::uint32_t k = 0; k < 60; ++k) {
+    const double t0 = s.event_start_s + k * s.dt_s;
+    field.prepare(t0, t0 + s.dt_s);
+    if (grid) {
+      stepper.step(p, k, s, clock, lookup, rng, now, environment);
+    } else {
+      drift::drift_step(p, k, s, clock, earth, field, lookup, rng, now, extras);
+    }
+  }
+  return p;
+}
+
+}  // namespace
+
+TEST_CASE("grid stepper: temperature- and food-dependent larvae as in the generic step") {
+  // Both paths apply one rule (development_step.hpp) to the temperature and
+  // chlorophyll of the same file at the same positions, which agree to
+  // rounding: development ages, food sums and weights then agree closely,
+  // and fates except for larvae grazing the island, the reef or the edge.
+  const fs::path dir = fs::temp_directory_path() / "cullcast-grid-stepper-environment";
+  const fs::path file = write_flow(dir, 81, 61, 150.0, -20.3, 0.01, 0.0, true);
+  const auto reef_set = one_reef(150.42, -20.0, 0.06);
+  const auto start = grid_of_particles(150.05, -20.25, 0.5, 40);
+  for (const std::string mortality_as : {"weight", "random"}) {
+    INFO("mortality as " << mortality_as);
+    const drift::ParticleSet fast = run_developing(true, file, start, reef_set, mortality_as);
+    const drift::ParticleSet generic = run_developing(false, file, start, reef_set, mortality_as);
+    const std::size_t n = start.size();
+    std::size_t same_fate = 0, same_development = 0, same_food = 0, same_weight = 0, settled = 0, ahead = 0,
+                behind = 0;
+    for (std::size_t i = 0; i < n; ++i) {
+      same_fate += fast.fate[i] == generic.fate[i];
+      same_development += std::fabs(fast.development_s[i] - generic.development_s[i]) <= 1e-3f * generic.development_s[i] + 1;
+      same_food += std::fabs(fast.food_log2_s[i] - generic.food_log2_s[i]) <= 1e-3f * std::fabs(generic.food_log2_s[i]) + 1;
+      same_weight += std::fabs(fast.weight[i] - generic.weight[i]) <= 1e-6;
+      settled += fast.fate[i] == drift::Fate::settled;
+      // Development must really follow the water: warm larvae ahead of
+      // their calendar age, cool ones behind (else the check is empty).
+      if (fast.fate[i] == drift::Fate::drifting) {
+        const double age = 60 * 600.0 - fast.release_s[i];
+        ahead += fast.development_s[i] > 1.1 * age;
+        behind += fast.development_s[i] < 0.9 * age;
+      }
+    }
+    CHECK(same_fate >= n - n / 200);
+    CHECK(same_development >= n - n / 200);
+    CHECK(same_food >= n - n / 200);
+    CHECK(same_weight >= n - n / 200);
+    CHECK(settled > 10);
+    CHECK(ahead > 50);
+    CHECK(behind > 50);
+  }
   fs::remove_all(dir);
 }
 

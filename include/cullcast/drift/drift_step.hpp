@@ -34,6 +34,7 @@
 
 #include "cullcast/base/random.hpp"
 #include "cullcast/currents/current_field.hpp"
+#include "cullcast/drift/development_step.hpp"
 #include "cullcast/drift/earth_model.hpp"
 #include "cullcast/drift/integrator.hpp"
 #include "cullcast/drift/larval_clock.hpp"
@@ -163,29 +164,11 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
             extras.move_vertically(flow, t0_model + 0.5 * s.dt_s, s.dt_s, x, depth, age0, r));
       }
       if (extras.environment.any()) {
-        const double t_mid = t0_model + 0.5 * s.dt_s;
-        const double dev0 = p.development_s[i];
-        const double rate = extras.environment.temperature_on()
-                                ? extras.environment.development_rate(
-                                      extras.fields->temperature_c(t_mid, x[0], x[1], depth))
-                                : 1.0;
-        dev1 = dev0 + rate * s.dt_s;
-        p.development_s[i] = static_cast<float>(dev1);
-        if (extras.environment.food_on() && dev0 < clock.precompetent_s()) {
-          const double chl = extras.fields->chlorophyll_mg_m3(t_mid, x[0], x[1], depth);
-          p.food_log2_s[i] += static_cast<float>(extras.environment.food_log2(chl) * s.dt_s);
-          if (dev1 >= clock.precompetent_s()) {  // reaches competency now: development completed?
-            const double complete = extras.environment.completion_from_log2(p.food_log2_s[i] / age1);
-            if (clock.random_deaths()) {
-              if (rng.uniform2(id, step, Draw::mortality)[1] >= complete) {
-                p.fate[i] = Fate::died;
-                ++died;
-                continue;
-              }
-            } else {
-              p.weight[i] *= complete;
-            }
-          }
+        dev1 = develop(p, i, id, step, extras.environment, *extras.fields, t0_model + 0.5 * s.dt_s, x[0], x[1],
+                       depth, s.dt_s, age1, clock, rng);
+        if (dev1 < 0) {
+          ++died;
+          continue;
         }
       }
     }

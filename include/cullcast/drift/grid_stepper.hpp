@@ -1,6 +1,8 @@
 #pragma once
-// The core drift step (2-D, constant Kh, no environment effects) specialised
-// for a regular grid with uniform spacing, the common case of a study.
+// The drift step at one fixed depth with constant Kh — the core, and the
+// core with temperature- and food-dependent development
+// (larval_environment.hpp) — specialised for a regular grid with uniform
+// spacing, the common case of a study.
 // Same rules and the same random streams as drift_step() (drift_step.hpp);
 // faster because of three choices (docs/performance.md):
 //  - time (and depth) interpolation is done once per RK stage time on the
@@ -24,6 +26,7 @@
 
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_step.hpp"
+#include "cullcast/drift/larval_environment.hpp"
 #include "cullcast/reefs/reef_lookup.hpp"
 
 namespace cullcast::drift {
@@ -50,10 +53,13 @@ class GridStepper {
   void use_instruction_set(VectorIsa isa) noexcept { isa_ = isa; }
 
   // One step, with drift_step()'s contract. The field must be prepared for
-  // [event_start + step·dt, event_start + (step+1)·dt].
+  // [event_start + step·dt, event_start + (step+1)·dt]. With `environment`
+  // on, development follows the field's temperature and chlorophyll as in
+  // drift_step() with StepExtras (p.enable_development() first).
   StepTally step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
                  const reefs::ReefLookup& reefs, const CounterRandom& rng,
-                 std::vector<std::uint8_t>& settled_now);
+                 std::vector<std::uint8_t>& settled_now,
+                 const LarvalEnvironment& environment = LarvalEnvironment(study::LarvaeSettings{}, false, false));
 
  private:
   const currents::CurrentField& field_;
