@@ -212,20 +212,23 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
 
   // Particles go through the step in batches of kLanes (grid_lanes.hpp): the
   // kernel runs each stage over the whole batch in vector instructions.
+  // Each chunk of the array first lists its drifting particles, so batches
+  // stay full when larvae have settled, died or left here and there.
   // Per-particle results depend neither on the batching nor on the thread
   // count nor on the instruction set.
-  const std::int64_t batches = (n + kLanes - 1) / kLanes;
+  constexpr std::int64_t kChunk = 512;
+  const std::int64_t chunks = (n + kChunk - 1) / kChunk;
 
-  // Dynamic chunks of 32 batches: finished larvae cluster along the array
-  // (drift_step.hpp says why the schedule changes no result).
-#pragma omp parallel for schedule(dynamic, 32) if (n > 4096) reduction(+ : particle_steps, land_contacts, \
-                                                        released, settled, died, stranded, lost)        \
+  // Chunks handed out as threads finish: finished larvae cluster along the
+  // array (drift_step.hpp says why the schedule changes no result).
+#pragma omp parallel for schedule(dynamic, 1) if (n > 4096) reduction(+ : particle_steps, land_contacts, \
+                                                        released, settled, died, stranded, lost)       \
     reduction(max : max_speed)
-  for (std::int64_t batch = 0; batch < batches; ++batch) {
-    std::int64_t idx[kLanes];
-    int m = 0;
-    const std::int64_t end = std::min(n, (batch + 1) * kLanes);
-    for (std::int64_t i = batch * kLanes; i < end; ++i) {
+  for (std::int64_t chunk = 0; chunk < chunks; ++chunk) {
+    std::int64_t drifting[kChunk];
+    int count = 0;
+    const std::int64_t chunk_end = std::min(n, (chunk + 1) * kChunk);
+    for (std::int64_t i = chunk * kChunk; i < chunk_end; ++i) {
       Fate fate = p.fate[i];
       if (fate == Fate::waiting) {
         if (p.release_s[i] > t0) continue;
@@ -234,67 +237,71 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         ++released;
         fate = Fate::drifting;
       }
-      if (fate == Fate::drifting) idx[m++] = i;
+      if (fate == Fate::drifting) drifting[count++] = i;
     }
-    if (m == 0) continue;
-    particle_steps += static_cast<std::uint64_t>(m);
+    particle_steps += static_cast<std::uint64_t>(count);
+    for (int first = 0; first < count; first += kLanes) {
+      const std::int64_t* idx = drifting + first;
+      const int m = std::min<int>(kLanes, count - first);
 
-    lanes::Batch b;
-    for (int l = 0; l < kLanes; ++l) {
-      const std::int64_t i = idx[l < m ? l : 0];  // spare lanes repeat lane 0
-      b.lon0[l] = p.lon[i];
-      b.lat0[l] = p.lat[i];
-      b.source[l] = p.source[i];
-      b.particle[l] = p.index[i];
-    }
-    advance(g, plan, b);
+      lanes::Batch b;
+      for (int l = 0; l < kLanes; ++l) {
+        const std::int64_t i = idx[l < m ? l : 0];  // spare lanes repeat lane 0
+        b.lon0[l] = p.lon[i];
+        b.lat0[l] = p.lat[i];
+        b.source[l] = p.source[i];
+        b.particle[l] = p.index[i];
+      }
+      advance(g, plan, b);
 
-    for (int l = 0; l < m; ++l) {
-      max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
-      const std::int64_t i = idx[l];
-      double lon = b.lon[l], lat = b.lat[l];
-      if (b.where[l] == lanes::kOutside) {
+      for (int l = 0; l < m; ++l) {
+        max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
+        const std::int64_t i = idx[l];
+        double lon = b.lon[l], lat = b.lat[l];
+        if (b.where[l] == lanes::kOutside) {
+          p.lon[i] = lon;
+          p.lat[i] = lat;
+          p.fate[i] = Fate::lost;
+          ++lost;
+          continue;
+        }
+        if (b.where[l] == lanes::kLand) {
+          ++land_contacts;
+          if (s.land == LandRule::strand) {
+            p.fate[i] = Fate::stranded;
+            ++stranded;
+            continue;
+          }
+          lon = b.lon0[l];  // hold: the step is undone
+          lat = b.lat0[l];
+        }
         p.lon[i] = lon;
         p.lat[i] = lat;
-        p.fate[i] = Fate::lost;
-        ++lost;
-        continue;
-      }
-      if (b.where[l] == lanes::kLand) {
-        ++land_contacts;
-        if (s.land == LandRule::strand) {
-          p.fate[i] = Fate::stranded;
-          ++stranded;
-          continue;
-        }
-        lon = b.lon0[l];  // hold: the step is undone
-        lat = b.lat0[l];
-      }
-      p.lon[i] = lon;
-      p.lat[i] = lat;
 
-      const StreamId id{s.event, p.source[i], p.index[i]};
-      const double age0 = t0 - p.release_s[i];
-      const double age1 = t1 - p.release_s[i];
-      double development = age1;  // the real age unless temperature/food act
-      if (develops) {
-        development = develop(p, i, id, step, environment, scalars, t_mid_model, lon, lat, depth, s.dt_s, age1,
-                              clock, rng);
-        if (development < 0) {
-          ++died;
-          continue;
+        const StreamId id{s.event, p.source[i], p.index[i]};
+        const double age0 = t0 - p.release_s[i];
+        const double age1 = t1 - p.release_s[i];
+        double development = age1;  // the real age unless temperature/food act
+        if (develops) {
+          development = develop(p, i, id, step, environment, scalars, t_mid_model, lon, lat, depth,
+                                s.dt_s, age1, clock, rng);
+          if (development < 0) {
+            ++died;
+            continue;
+          }
         }
-      }
-      const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
-      switch (end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, reefs, rng)) {
-        case StepEnd::died: ++died; break;
-        case StepEnd::settled: settled_now[i] = 1; ++settled; break;
-        case StepEnd::drifting: break;
+        const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
+        switch (end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, reefs, rng)) {
+          case StepEnd::died: ++died; break;
+          case StepEnd::settled: settled_now[i] = 1; ++settled; break;
+          case StepEnd::drifting: break;
+        }
       }
     }
   }
 
-  return StepTally{particle_steps, land_contacts, released, settled, died, stranded, lost, max_speed};
+  return StepTally{particle_steps, land_contacts, released, settled,
+                   died,           stranded,      lost,     max_speed};
 }
 
 }  // namespace cullcast::drift
