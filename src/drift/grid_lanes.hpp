@@ -148,14 +148,17 @@ inline float high_float(std::uint64_t pair) noexcept {
     // Unsigned 32-bit offsets: they widen to addresses without SSE4.1.
     const std::uint32_t k = 2 * (static_cast<std::uint32_t>(j) * nx + static_cast<std::uint32_t>(i)),
                         k2 = k + 2 * nx;
-    const double w00 = (1 - fx) * (1 - fy), w10 = fx * (1 - fy), w01 = (1 - fx) * fy, w11 = fx * fy;
+    // Weights and sums in single precision, as CurrentField::sample() does:
+    // the node values are floats, and twice the lanes fit a vector.
+    const float gx = static_cast<float>(fx), gy = static_cast<float>(fy);
+    const float w00 = (1 - gx) * (1 - gy), w10 = gx * (1 - gy), w01 = (1 - gx) * gy, w11 = gx * gy;
     // Each node's (u, v) read as one 64-bit word: half as many gathers.
     const std::uint64_t n00 = node_pair(uv, k), n10 = node_pair(uv, k + 2), n01 = node_pair(uv, k2),
                         n11 = node_pair(uv, k2 + 2);
-    const double uu = w00 * low_float(n00) + w10 * low_float(n10) + w01 * low_float(n01) + w11 * low_float(n11);
-    const double vv = w00 * high_float(n00) + w10 * high_float(n10) + w01 * high_float(n01) + w11 * high_float(n11);
-    u[l] = keep_or_zero(inside, uu);
-    v[l] = keep_or_zero(inside, vv);
+    const float uu = w00 * low_float(n00) + w10 * low_float(n10) + w01 * low_float(n01) + w11 * low_float(n11);
+    const float vv = w00 * high_float(n00) + w10 * high_float(n10) + w01 * high_float(n01) + w11 * high_float(n11);
+    u[l] = keep_or_zero(inside, static_cast<double>(uu));
+    v[l] = keep_or_zero(inside, static_cast<double>(vv));
     row[l] = static_cast<std::uint32_t>(j);
   }
 }
