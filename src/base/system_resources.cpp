@@ -1,5 +1,6 @@
 #include "cullcast/base/system_resources.hpp"
 
+#include <sched.h>
 #include <sys/statvfs.h>
 #include <sys/sysinfo.h>
 
@@ -9,6 +10,7 @@
 #include <limits>
 #include <string>
 #include <system_error>
+#include <thread>
 #include <utility>
 #include <vector>
 
@@ -82,6 +84,16 @@ std::uint64_t available_disk_bytes(const std::filesystem::path& path) {
   struct statvfs fs {};
   if (::statvfs(p.c_str(), &fs) != 0) return std::numeric_limits<std::uint64_t>::max();  // cannot tell: do not refuse
   return static_cast<std::uint64_t>(fs.f_bavail) * static_cast<std::uint64_t>(fs.f_frsize);
+}
+
+unsigned usable_cpus() {
+  cpu_set_t set;
+  CPU_ZERO(&set);
+  if (sched_getaffinity(0, sizeof set, &set) == 0) {
+    const int n = CPU_COUNT(&set);
+    if (n > 0) return static_cast<unsigned>(n);
+  }
+  return std::max(1u, std::thread::hardware_concurrency());
 }
 
 }  // namespace cullcast

@@ -6,16 +6,22 @@
 #include <algorithm>
 #include <cmath>
 #include <deque>
+#include <exception>
+#include <future>
 #include <limits>
 #include <map>
 #include <netcdf>
+#include <omp.h>
 #include <numbers>
+#include <optional>
 #include <sstream>
 #include <type_traits>
 
 #include "cullcast/base/error.hpp"
+#include "cullcast/base/system_resources.hpp"
 #include "cullcast/currents/cf_time.hpp"
 #include "cullcast/currents/curvilinear_grid.hpp"
+#include "cullcast/currents/netcdf_lock.hpp"
 #include "nc_util.hpp"
 
 namespace cullcast::currents {
@@ -148,6 +154,40 @@ struct CurrentField::Impl {
   std::unique_ptr<NcFile> open_file;
   std::vector<double> buffer;
 
+  // The read-ahead interval, decoded on a background thread while the
+  // larvae move (prepare()). While it runs, that thread alone uses the
+  // NetCDF library, the open file and `buffer`; every other path that reads
+  // joins it first (settle()).
+  struct Ahead {
+    std::size_t k = 0;        // interval between frames k and k+1
+    Frame first, second;      // frame k (moved in, or decoded there) and k+1
+    bool have_first = false;
+    Block block;
+    std::future<void> done;   // rethrows the decoder's error
+  };
+  // Unset: decode in the background only when a processor is spare
+  // (OpenMP threads < usable processors): on a fully used machine the
+  // decoder would only take turns with the step's threads.
+  std::optional<bool> background_reads;
+  double last_prepare_t0 = -std::numeric_limits<double>::infinity();
+  // Declared last: destroyed first, so a running decoder is waited for while
+  // everything it uses still exists.
+  std::unique_ptr<Ahead> ahead;
+
+  ~Impl() {
+    if (ahead && ahead->done.valid()) ahead->done.wait();
+    const std::lock_guard<std::recursive_mutex> lock(netcdf_mutex());
+    open_file.reset();
+  }
+
+  // Waits for the background decoder and drops its interval (errors included).
+  void discard_ahead() {
+    if (!ahead) return;
+    if (ahead->done.valid()) ahead->done.wait();
+    spare.push_back(std::move(ahead->block));
+    ahead.reset();
+  }
+
   std::size_t nodes() const { return static_cast<size_t>(geo.nx * geo.ny * geo.nz); }
   int vel_channels() const { return has_w ? 3 : 2; }
 
@@ -170,6 +210,7 @@ struct CurrentField::Impl {
   void read_var(std::size_t frame, const Decoding& dec, std::vector<double>& out) {
     const FrameRef& ref = frames[frame];
     const FileInfo& fi = files[ref.file];
+    const std::lock_guard<std::recursive_mutex> lock(netcdf_mutex());
     NcFile& nf = file(ref.file);
     const size_t n = nodes();
     buffer.resize(n);
@@ -660,6 +701,7 @@ CurrentField CurrentField::open_files(const std::vector<std::string>& files) {
 }
 
 CurrentField CurrentField::open(const study::CurrentsSettings& settings) {
+  const std::lock_guard<std::recursive_mutex> lock(netcdf_mutex());
   if (settings.files.empty()) throw InputError("[currents] files: no currents files given");
   CurrentField field;
   Impl& m = *field.impl_;
@@ -967,6 +1009,7 @@ void CurrentField::enable_scalar(ScalarKind kind) {
   }
   bool& flag = kind == ScalarKind::temperature ? m.use_temp : m.use_chl;
   if (flag) return;
+  m.discard_ahead();  // decoded without the scalar
   flag = true;
   // Loaded blocks lack the scalar: reload on the next prepare().
   m.blocks.clear();
@@ -984,6 +1027,7 @@ void CurrentField::prepare(double t0_s, double t1_s) {
   if (t1_s < t0_s) std::swap(t0_s, t1_s);
   const size_t n = m.times.size();
   size_t a = 0, end = 0;  // intervals a .. end-1 (frames a .. end)
+  size_t needed_end = 1;  // intervals a .. needed_end-1 hold [t0, t1]; the rest is read-ahead
   if (n == 1) {
     // One frame: a steady field, valid at any time.
     a = 0;
@@ -998,6 +1042,7 @@ void CurrentField::prepare(double t0_s, double t1_s) {
     a = std::min(a == 0 ? 0 : a - 1, n - 2);
     size_t b = static_cast<size_t>(std::lower_bound(m.times.begin(), m.times.end(), t1_s - eps) - m.times.begin());
     b = std::clamp(b, a + 1, n - 1);
+    needed_end = b;
     end = std::min(n - 1, b + static_cast<size_t>(m.frames_ahead));
   }
   const size_t last_interval = n == 1 ? 0 : end - 1;
@@ -1017,11 +1062,36 @@ void CurrentField::prepare(double t0_s, double t1_s) {
     m.spare.push_back(std::move(m.blocks.back()));
     m.blocks.pop_back();
   }
+  const bool scalars = m.use_temp || m.use_chl;
+  const bool forward = t0_s >= m.last_prepare_t0;
+  m.last_prepare_t0 = t0_s;
+  bool changed = m.hot_blocks.empty();
+  // The interval being decoded in the background: adopt it when it is
+  // needed now, let it run when it is needed later, else drop it.
+  if (m.ahead) {
+    const size_t k = m.ahead->k;
+    const bool fits = forward && k >= a && k <= last_interval &&
+                      (m.blocks.empty() ? k == a : m.blocks.back().k + 1 == k);
+    if (!fits) {
+      m.discard_ahead();
+    } else if (k < needed_end) {
+      m.ahead->done.get();  // its error, if any, is this call's (the interval is needed)
+      m.blocks.push_back(std::move(m.ahead->block));
+      m.last = std::move(m.ahead->second);
+      m.last_index = k + 1;
+      m.ahead.reset();
+      changed = true;
+    }
+  }
   if (m.spare.size() > 2) m.spare.resize(2);
   size_t next = m.blocks.empty() ? a : m.blocks.back().k + 1;
-  bool changed = m.hot_blocks.empty();
-  const bool scalars = m.use_temp || m.use_chl;
-  for (; next <= last_interval; ++next) {
+  // Moving forward with read-ahead: the last interval of the window (one not
+  // needed yet) goes to a background thread.
+  const bool spare_cpu = static_cast<unsigned>(omp_get_max_threads()) < usable_cpus();
+  const bool read_behind = m.background_reads.value_or(spare_cpu) && forward && n > 1 &&
+                           last_interval >= needed_end && !m.ahead && next <= last_interval;
+  const size_t sync_end = m.ahead ? m.ahead->k : (read_behind ? last_interval : last_interval + 1);
+  for (; next < sync_end; ++next) {
     Block blk;
     if (!m.spare.empty()) { blk = std::move(m.spare.back()); m.spare.pop_back(); }
     blk.k = next;
@@ -1039,6 +1109,26 @@ void CurrentField::prepare(double t0_s, double t1_s) {
     }
     m.blocks.push_back(std::move(blk));
     changed = true;
+  }
+  if (read_behind) {
+    auto job = std::make_unique<Impl::Ahead>();
+    job->k = last_interval;
+    if (!m.spare.empty()) { job->block = std::move(m.spare.back()); m.spare.pop_back(); }
+    job->block.k = last_interval;
+    if (m.last_index == last_interval) {
+      job->first = std::move(m.last);
+      job->have_first = true;
+    }
+    m.last = Frame{};
+    m.last_index = static_cast<std::size_t>(-1);
+    Impl::Ahead* j = job.get();
+    Impl* impl = &m;
+    job->done = std::async(std::launch::async, [impl, j, scalars] {
+      if (!j->have_first) impl->decode(j->k, j->first, scalars);
+      impl->decode(j->k + 1, j->second, scalars);
+      impl->build_block(j->first, j->second, j->block);
+    });
+    m.ahead = std::move(job);
   }
   if (changed || m.hot_blocks.size() != m.blocks.size()) {
     m.hot_blocks.clear();
@@ -1091,8 +1181,20 @@ double CurrentField::sample_scalar(ScalarKind kind, double t_s, double lon, doub
   return wsum > 0 ? sum / wsum : nan;
 }
 
+void CurrentField::settle() {
+  Impl& m = *impl_;
+  if (m.ahead && m.ahead->done.valid()) m.ahead->done.wait();
+}
+
+void CurrentField::set_background_reads(bool on) {
+  Impl& m = *impl_;
+  m.discard_ahead();
+  m.background_reads = on;
+}
+
 FrameScan CurrentField::scan_frame(std::size_t index, std::vector<float>* speeds) {
   Impl& m = *impl_;
+  settle();  // the decoder's file and buffer are shared
   if (index >= m.times.size()) throw std::out_of_range("scan_frame: frame index out of range");
   Frame f;
   m.decode(index, f, false);

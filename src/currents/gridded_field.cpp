@@ -6,6 +6,7 @@
 #include <netcdf>
 
 #include "cullcast/base/error.hpp"
+#include "cullcast/currents/netcdf_lock.hpp"
 #include "nc_util.hpp"
 
 namespace cullcast::currents {
@@ -62,7 +63,10 @@ Layout layout_of(const NcFile& f, const NcVar& var, const std::string& where) {
   if (k < axes.size() && axes[k] == Axis::depth) { l.depth = dims[k].getName(); ++k; }
   if (axes.size() != k + 2 || axes[k] != Axis::lat || axes[k + 1] != Axis::lon) {
     std::string found;
-    for (const auto& d : dims) found += (found.empty() ? "" : ",") + d.getName();
+    for (const auto& d : dims) {
+      if (!found.empty()) found += ',';
+      found += d.getName();
+    }
     throw InputError(where + ": expected dimensions [time,][depth,]lat,lon with CF coordinate "
                      "variables, found (" + found + ")");
   }
@@ -111,6 +115,7 @@ NcVar find_variable(const NcFile& f, const std::string& variable, const std::str
 GriddedField GriddedField::read(const std::filesystem::path& file, const std::string& variable,
                                 const std::string& standard_name) {
   GriddedField g;
+  const std::lock_guard<std::recursive_mutex> lock(netcdf_mutex());
   try {
     const NcFile f(file.string(), NcFile::read);
     const NcVar var = find_variable(f, variable, standard_name, file.string());

@@ -342,6 +342,13 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
   }
   GridStepper grid_stepper(field, earth);
   auto last_checkpoint = Clock::now();
+  // The currents' background decoder must be idle before any other NetCDF
+  // work (settlement file, tracks; the library is not thread-safe), also
+  // when an error leaves the loop.
+  struct SettleOnExit {
+    currents::CurrentField& field;
+    ~SettleOnExit() { field.settle(); }
+  } settle_on_exit{field};
 
   const auto stage_start = Clock::now();
   std::uint64_t stepped = 0;               // particle-steps of this process before this event
@@ -513,6 +520,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       held_seconds.push_back(seconds_since(event_start));
     }
   }
+  field.settle();
   if (!streaming) {
     open_log();
     for (std::size_t e = 0; e < held.size(); ++e) {
@@ -614,6 +622,10 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
   std::vector<double> joins_after(p.size());  // backward seconds from `last` to the arrival
   for (std::size_t i = 0; i < p.size(); ++i) joins_after[i] = window - p.release_s[i];
   const auto steps = static_cast<std::uint32_t>(std::ceil((window + clock.max_age_s()) / dt - 1e-9));
+  struct SettleOnExit {  // as in run_drift
+    currents::CurrentField& field;
+    ~SettleOnExit() { field.settle(); }
+  } settle_on_exit{field};
   for (std::uint32_t k = 0; k < steps; ++k) {
     const double t0 = last - k * dt;
     for (std::size_t i = 0; i < p.size(); ++i) {

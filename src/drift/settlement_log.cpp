@@ -10,6 +10,7 @@
 #include "cullcast/base/atomic_file.hpp"
 #include "cullcast/base/civil_time.hpp"
 #include "cullcast/base/error.hpp"
+#include "cullcast/currents/netcdf_lock.hpp"
 
 namespace cullcast::drift {
 namespace fs = std::filesystem;
@@ -62,6 +63,7 @@ SettlementLog::SettlementLog(fs::path netcdf_path, fs::path csv_path, LogTables 
     : impl_(std::make_unique<Impl>(std::move(netcdf_path), std::move(csv_path), std::move(tables))) {
   using namespace netCDF;
   Impl& m = *impl_;
+  const std::lock_guard<std::recursive_mutex> lock(currents::netcdf_mutex());  // netcdf_lock.hpp
   try {
     m.file = std::make_unique<NcFile>(m.nc_target.temp_path().string(), NcFile::replace,
                                       NcFile::nc4);
@@ -134,6 +136,7 @@ SettlementLog::SettlementLog(fs::path netcdf_path, fs::path csv_path, LogTables 
 
 SettlementLog::~SettlementLog() noexcept {
   try {
+    const std::lock_guard<std::recursive_mutex> lock(currents::netcdf_mutex());
     if (impl_ && impl_->file) impl_->file->close();
   } catch (...) {
   }
@@ -160,6 +163,8 @@ void SettlementLog::add(const SettlementRecord& r) {
 
 void SettlementLog::flush() {
   Impl& m = *impl_;
+  const std::lock_guard<std::recursive_mutex> lock(currents::netcdf_mutex());  // netcdf_lock.hpp
+
   const std::size_t n = m.b_event.size();
   if (n == 0) return;
   const std::vector<std::size_t> start{total_}, count{n};
@@ -181,6 +186,8 @@ void SettlementLog::set_fates(std::uint32_t event, std::uint32_t source, const F
 
 void SettlementLog::commit() {
   Impl& m = *impl_;
+  const std::lock_guard<std::recursive_mutex> lock(currents::netcdf_mutex());  // netcdf_lock.hpp
+
   try {
     flush();
     const std::size_t events = m.tables.event_labels.size(), sources = m.tables.source_ids.size();
@@ -212,6 +219,8 @@ void SettlementLog::commit() {
 SettlementData read_settlement_log(const fs::path& path) {
   using namespace netCDF;
   SettlementData d;
+  const std::lock_guard<std::recursive_mutex> lock(currents::netcdf_mutex());  // netcdf_lock.hpp
+
   try {
     NcFile f(path.string(), NcFile::read);
     auto strings = [&](const char* name) {

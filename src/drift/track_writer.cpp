@@ -6,6 +6,7 @@
 
 #include "cullcast/base/atomic_file.hpp"
 #include "cullcast/base/error.hpp"
+#include "cullcast/currents/netcdf_lock.hpp"
 
 namespace cullcast::drift {
 namespace fs = std::filesystem;
@@ -99,6 +100,8 @@ std::size_t TrackWriter::trajectories() const { return impl_->t_event.size(); }
 void TrackWriter::commit() {
   using namespace netCDF;
   Impl& m = *impl_;
+  const std::lock_guard<std::recursive_mutex> lock(currents::netcdf_mutex());  // netcdf_lock.hpp
+
   m.out.close();
   const std::size_t nt = m.t_event.size();
   std::vector<std::uint64_t> offset(nt + 1, 0);

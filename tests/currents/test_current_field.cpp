@@ -281,6 +281,77 @@ TEST_CASE("streaming: frame memory stays bounded over a long multi-file set", "[
   CHECK(peak > 0);
 }
 
+TEST_CASE("streaming: the background decoder gives the same data and reports errors when frames are needed",
+          "[currents][stream]") {
+  // Frames of a non-linear field over four files; the last file's frames
+  // from hour 80 on carry a 40 m/s current (a units error the decoder must
+  // report, naming the file).
+  ScratchDir dir;
+  std::vector<std::string> files;
+  for (int k = 0; k < 4; ++k) {
+    RegularSpec s = linear_spec({150, 150.2, 150.4, 150.6, 150.8, 151}, {-20.5, -20.25, -20, -19.75, -19.5});
+    s.u = [](double t, double, double lat, double lon) { return 0.3 * std::sin(0.7 * t + 9 * lon) * std::cos(5 * lat); };
+    s.v = [](double t, double, double lat, double lon) { return 0.2 * std::cos(0.3 * t - 7 * lat + lon); };
+    if (k == 3) s.u = [](double t, double, double, double) { return t >= 80 ? 40.0 : 0.1; };
+    s.time.clear();
+    for (int h = 0; h < 24; ++h) s.time.push_back(k * 24 + h);
+    files.push_back(ncgen(dir, "part" + std::to_string(k), regular_cdl(s)));
+  }
+  auto foreground = CurrentField::open_files(files), background = CurrentField::open_files(files);
+  foreground.set_background_reads(false);
+  background.set_background_reads(true);
+  const double t0 = foreground.time_begin_s();
+  auto same_samples = [&](double t) {
+    for (double lon : {150.03, 150.41, 150.97}) {
+      for (double lat : {-20.44, -20.02, -19.61}) {
+        const FlowSample a = foreground.sample(t, lon, lat, 0), b = background.sample(t, lon, lat, 0);
+        REQUIRE(a.u_m_s == b.u_m_s);  // the same bits: only the thread that decodes differs
+        REQUIRE(a.v_m_s == b.v_m_s);
+      }
+    }
+  };
+  // Forward in 20-minute steps, then a jump ahead (a later spawning night),
+  // then back in time (backward drift): both fields agree everywhere.
+  for (double t = t0; t + 1200 <= t0 + 60 * 3600.0; t += 1200) {
+    foreground.prepare(t, t + 1200);
+    background.prepare(t, t + 1200);
+    same_samples(t + 500);
+  }
+  for (double h : {70.0, 70.33, 20.0, 19.67, 5.5}) {
+    const double t = t0 + h * 3600.0;
+    foreground.prepare(t, t + 1200);
+    background.prepare(t, t + 1200);
+    same_samples(t + 600);
+  }
+  // The bad frames: an error, naming the file and the speed, from both; the
+  // background decoder's surfaces once its interval is needed, not later.
+  std::string message_fg, message_bg;
+  double failed_fg = 0, failed_bg = 0;
+  for (double t = t0 + 60 * 3600.0; t + 1200 <= t0 + 95 * 3600.0 && message_fg.empty(); t += 1200) {
+    try {
+      foreground.prepare(t, t + 1200);
+    } catch (const InputError& e) {
+      message_fg = e.what();
+      failed_fg = t;
+    }
+  }
+  for (double t = t0 + 60 * 3600.0; t + 1200 <= t0 + 95 * 3600.0 && message_bg.empty(); t += 1200) {
+    try {
+      background.prepare(t, t + 1200);
+    } catch (const InputError& e) {
+      message_bg = e.what();
+      failed_bg = t;
+    }
+  }
+  CHECK(message_bg == message_fg);
+  CHECK_THAT(message_bg, Catch::Contains("part3") && Catch::Contains("exceeds"));
+  // The frame at hour 80 is needed from the step starting at 79 h; the
+  // foreground reads one interval ahead, so it fails an hour earlier.
+  CHECK(failed_fg >= t0 + 78 * 3600.0 - 1);
+  CHECK(failed_bg <= t0 + 79 * 3600.0 + 1);
+  CHECK(failed_bg >= failed_fg);
+}
+
 TEST_CASE("upward velocity is discovered and interpolated like u and v", "[currents][grid]") {
   ScratchDir dir;
   RegularSpec s;

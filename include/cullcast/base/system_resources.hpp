@@ -17,4 +17,8 @@ std::uint64_t available_memory_bytes();
 // asked when `path` does not exist yet.
 std::uint64_t available_disk_bytes(const std::filesystem::path& path);
 
+// Processors this process may run on (its affinity mask, sched_getaffinity(2);
+// a rank bound to one core by its launcher sees 1), at least 1.
+unsigned usable_cpus();
+
 }  // namespace cullcast

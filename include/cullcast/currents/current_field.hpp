@@ -89,7 +89,18 @@ class CurrentField {
   // Makes sure the frames bracketing [t0, t1] are in memory (plus read-ahead),
   // dropping older ones. Not thread-safe; call between steps, outside the
   // parallel loop. Throws InputError if [t0, t1] is outside the files' span.
+  // Moving forward in time with a processor to spare (fewer OpenMP threads
+  // than usable processors), the last read-ahead interval is decoded on a
+  // background thread while the caller works; a later prepare() takes it
+  // over when it is needed (and throws its decoding error then).
   void prepare(double t0_s, double t1_s);
+  // Waits for the background decoder. Call before using the NetCDF library
+  // elsewhere in the process (the library is not thread-safe); the
+  // destructor waits too.
+  void settle();
+  // Forces the background decoder on or off (by default it runs when a
+  // processor is spare); either way the data are the same.
+  void set_background_reads(bool on);
 
   // Bilinear in space (trilinear with depth), linear in time, between the
   // prepared frames. Masked nodes count as velocity 0. Thread-safe for
