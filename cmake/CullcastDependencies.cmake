@@ -16,6 +16,10 @@ cullcast_require(tomlplusplus_FOUND libtomlplusplus-dev)
 
 pkg_check_modules(NETCDF_CXX QUIET IMPORTED_TARGET netcdf-cxx4)
 cullcast_require(NETCDF_CXX_FOUND libnetcdf-c++4-dev)
+# HDF5 (under NetCDF-4) directly, for one call: silencing its error printing
+# on the currents' background decoder thread (current_field.cpp).
+pkg_check_modules(HDF5_C QUIET IMPORTED_TARGET hdf5-serial)
+cullcast_require(HDF5_C_FOUND libhdf5-dev)
 
 find_package(Eigen3 3.4 QUIET NO_MODULE)
 cullcast_require(Eigen3_FOUND libeigen3-dev)

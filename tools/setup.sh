@@ -16,7 +16,7 @@ jobs="$(nproc)"
 
 packages=(
   build-essential cmake ninja-build pkg-config
-  libnetcdf-c++4-dev libnetcdf-dev netcdf-bin
+  libnetcdf-c++4-dev libnetcdf-dev libhdf5-dev netcdf-bin
   libeigen3-dev libgdal-dev gdal-bin
   libboost-graph-dev libboost-dev
   libcli11-dev catch2 libtomlplusplus-dev libgeographiclib-dev

@@ -10,6 +10,7 @@
 #include <future>
 #include <limits>
 #include <map>
+#include <hdf5.h>
 #include <netcdf>
 #include <omp.h>
 #include <numbers>
@@ -1124,6 +1125,11 @@ void CurrentField::prepare(double t0_s, double t1_s) {
     Impl::Ahead* j = job.get();
     Impl* impl = &m;
     job->done = std::async(std::launch::async, [impl, j, scalars] {
+      // HDF5 keeps its error settings per thread: NetCDF switched the
+      // printing of its internal (expected) errors off on the main thread
+      // only. Without this, probing for optional attributes would print
+      // HDF5 diagnostics to stderr.
+      H5Eset_auto2(H5E_DEFAULT, nullptr, nullptr);
       if (!j->have_first) impl->decode(j->k, j->first, scalars);
       impl->decode(j->k + 1, j->second, scalars);
       impl->build_block(j->first, j->second, j->block);
@@ -1179,6 +1185,38 @@ double CurrentField::sample_scalar(ScalarKind kind, double t_s, double lon, doub
       }
   }
   return wsum > 0 ? sum / wsum : nan;
+}
+
+bool CurrentField::scalar_slice(ScalarKind kind, double t_s, double depth_m, std::vector<float>& out) const {
+  const Impl& m = *impl_;
+  if ((kind == ScalarKind::temperature && !m.use_temp) || (kind == ScalarKind::chlorophyll && !m.use_chl)) return false;
+  double a = 0;
+  const TimeBlock* tb = hot_.find_block(t_s, a);
+  if (tb == nullptr) return false;
+  const Block& blk = m.blocks[static_cast<size_t>(tb - hot_.blocks)];
+  const std::vector<float>& data = kind == ScalarKind::temperature ? blk.temp : blk.chl;
+  std::ptrdiff_t k = 0;
+  double fz = 0;
+  hot_.locate_depth(depth_m, k, fz);
+  const std::ptrdiff_t plane = hot_.nx * hot_.ny;
+  out.resize(static_cast<size_t>(2 * plane));
+  float* dst = out.data();
+  const float* src = data.data();
+#pragma omp parallel for schedule(static) if (plane > 65536)
+  for (std::ptrdiff_t n = 0; n < plane; ++n) {
+    double sum = 0, wsum = 0;
+    for (int dk = 0; dk < 2; ++dk) {  // the same terms, in the same order, as sample_scalar()
+      const double wz = dk == 0 ? 1.0 - fz : fz;
+      if (wz == 0.0) continue;
+      const float* node = src + 2 * ((k + dk) * plane + n);
+      if (std::isnan(node[0])) continue;
+      sum += wz * (node[0] + a * node[1]);
+      wsum += wz;
+    }
+    dst[2 * n] = static_cast<float>(sum);
+    dst[2 * n + 1] = static_cast<float>(wsum);
+  }
+  return true;
 }
 
 void CurrentField::settle() {

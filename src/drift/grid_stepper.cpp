@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdlib>
+#include <limits>
 #include <string>
 
 #include "cullcast/base/error.hpp"
@@ -32,14 +33,31 @@ using lanes::kRad;
 }
 #endif
 
-// Temperature and chlorophyll as the generic step's fields give them.
-struct FieldScalars {
-  const currents::CurrentField& field;
-  double temperature_c(double t, double lon, double lat, double d) const noexcept {
-    return field.sample_scalar(currents::ScalarKind::temperature, t, lon, lat, d);
+// Temperature and chlorophyll at the step's middle and the larvae's depth,
+// from slices computed once per step (CurrentField::scalar_slice): the
+// generic step's values (its fields call sample_scalar()) up to rounding.
+struct SlicedScalars {
+  const currents::FlowSampler& grid;
+  const float* temperature;  // nullptr when off
+  const float* chlorophyll;
+  static double at(const currents::FlowSampler& g, const float* slice, double lon, double lat) noexcept {
+    currents::CellHit h;
+    if (slice == nullptr || !g.locate(lon, lat, h)) return std::numeric_limits<double>::quiet_NaN();
+    double sum = 0, wsum = 0;
+    for (int dj = 0; dj < 2; ++dj) {
+      for (int di = 0; di < 2; ++di) {
+        const double w = (di ? h.fx : 1.0 - h.fx) * (dj ? h.fy : 1.0 - h.fy);
+        if (w == 0.0) continue;  // a masked node beside the point does not count
+        const float* node = slice + 2 * ((h.j + dj) * g.nx + h.i + di);
+        sum += w * node[0];
+        wsum += w * node[1];
+      }
+    }
+    return wsum > 0 ? sum / wsum : std::numeric_limits<double>::quiet_NaN();
   }
-  double chlorophyll_mg_m3(double t, double lon, double lat, double d) const noexcept {
-    return field.sample_scalar(currents::ScalarKind::chlorophyll, t, lon, lat, d);
+  double temperature_c(double, double lon, double lat, double) const noexcept { return at(grid, temperature, lon, lat); }
+  double chlorophyll_mg_m3(double, double lon, double lat, double) const noexcept {
+    return at(grid, chlorophyll, lon, lat);
   }
 };
 
@@ -203,8 +221,13 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   const std::int64_t n = static_cast<std::int64_t>(p.size());
   settled_now.assign(p.size(), 0);
   const bool develops = environment.any();
-  const FieldScalars scalars{field_};
   const double t_mid_model = t0_model + 0.5 * s.dt_s;
+  const bool warm = develops && environment.temperature_on() &&
+                    field_.scalar_slice(currents::ScalarKind::temperature, t_mid_model, depth, temperature_);
+  const bool fed = develops && environment.food_on() &&
+                   field_.scalar_slice(currents::ScalarKind::chlorophyll, t_mid_model, depth, chlorophyll_);
+  const SlicedScalars scalars{field_.sampler(), warm ? temperature_.data() : nullptr,
+                              fed ? chlorophyll_.data() : nullptr};
 
   std::uint64_t particle_steps = 0, land_contacts = 0, released = 0, settled = 0, died = 0, stranded = 0,
                 lost = 0;

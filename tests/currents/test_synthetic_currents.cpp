@@ -127,6 +127,64 @@ TEST_CASE("demo set: multi-file, land, scalars, and unpacking agrees with python
   CHECK(f.sample_scalar(ScalarKind::temperature, t, 150.33, -20.28, 10.0) == Approx(tc).margin(1e-5));
 }
 
+TEST_CASE("scalar slices give sample_scalar's values at any point, beside islands and between levels",
+          "[currents][synthetic]") {
+  // [D] scalar_slice() keeps, per node, the depth-weighted sum and weight of
+  // the known values; bilinear weights over a cell then give the same
+  // renormalised mean as sample_scalar() (current_field.hpp), up to rounding.
+  ScratchDir dir;
+  SyntheticOptions o;
+  o.kind = SyntheticKind::demo;
+  o.days = 2;
+  o.days_per_file = 2;
+  const auto files = write_synthetic_currents(dir.path(), o);
+  auto f = CurrentField::open_files(as_strings(files));
+  f.enable_scalar(ScalarKind::temperature);
+  f.enable_scalar(ScalarKind::chlorophyll);
+  const double t = f.time_begin_s() + 20.4 * 3600.0;  // between frames
+  f.prepare(t, t + 600);
+  const FlowSampler& g = f.sampler();
+  std::size_t compared = 0, unknown = 0;
+  std::vector<float> slice;
+  for (const ScalarKind kind : {ScalarKind::temperature, ScalarKind::chlorophyll}) {
+    for (const double depth : {0.0, 3.7, 10.0, 200.0}) {
+      REQUIRE(f.scalar_slice(kind, t, depth, slice));
+      REQUIRE(slice.size() == static_cast<std::size_t>(2 * g.nx * g.ny));
+      // A fine lattice over the main island and its coast, and open water.
+      for (double lon = 150.10; lon <= 150.21; lon += 0.0037) {
+        for (double lat = -20.26; lat <= -20.15; lat += 0.0041) {
+          const double expected = f.sample_scalar(kind, t, lon, lat, depth);
+          CellHit h;
+          double sum = 0, wsum = 0;
+          if (g.locate(lon, lat, h)) {
+            for (int dj = 0; dj < 2; ++dj) {
+              for (int di = 0; di < 2; ++di) {
+                const double w = (di ? h.fx : 1 - h.fx) * (dj ? h.fy : 1 - h.fy);
+                if (w == 0.0) continue;
+                const std::size_t n = static_cast<std::size_t>((h.j + dj) * g.nx + h.i + di);
+                sum += w * slice[2 * n];
+                wsum += w * slice[2 * n + 1];
+              }
+            }
+          }
+          INFO("lon " << lon << " lat " << lat << " depth " << depth);
+          if (std::isnan(expected)) {
+            CHECK(wsum == 0.0);
+            ++unknown;
+          } else {
+            REQUIRE(wsum > 0.0);
+            CHECK(sum / wsum == Approx(expected).epsilon(1e-6));
+            ++compared;
+          }
+        }
+      }
+    }
+  }
+  CHECK(compared > 1000);
+  CHECK(unknown > 10);  // inside the island: every surrounding node is land
+  CHECK_FALSE(f.scalar_slice(ScalarKind::temperature, f.time_end_s() + 3600.0, 0.0, slice));  // not prepared
+}
+
 namespace {
 std::string file_bytes(const std::filesystem::path& p) {
   std::ifstream in(p, std::ios::binary);

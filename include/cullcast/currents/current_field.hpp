@@ -134,6 +134,15 @@ class CurrentField {
   void enable_scalar(ScalarKind kind);
   // NaN outside the grid/time span or where every surrounding node is masked.
   double sample_scalar(ScalarKind kind, double t_s, double lon, double lat, double depth_m) const noexcept;
+  // The scalar at one time and depth on every horizontal node, for many
+  // look-ups at that time: two floats per node (row-major, lon fastest),
+  // the sum over the bracketing depth levels of weight × value and the sum
+  // of the weights, both over the levels where the value is known (0 and 0
+  // where none is). Bilinear weights w over a cell then give
+  // Σ w·sum / Σ w·weight — sample_scalar()'s value up to rounding. False
+  // (and `out` untouched) when t is outside the prepared frames or the
+  // scalar is not enabled.
+  bool scalar_slice(ScalarKind kind, double t_s, double depth_m, std::vector<float>& out) const;
 
   // Reads and decodes frame `index` on its own (not cached), for whole-record
   // scans; `speeds` (optional) receives the speed of every wet node, m/s.

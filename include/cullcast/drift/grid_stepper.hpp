@@ -66,6 +66,7 @@ class GridStepper {
   const EarthModel& earth_;
   VectorIsa isa_ = VectorIsa::baseline;
   std::vector<float> stage_uv_[3];         // (u, v) at the stage times t0, t0 + dt/2, t0 + dt
+  std::vector<float> temperature_, chlorophyll_;  // scalar slices at t0 + dt/2 (CurrentField::scalar_slice)
   std::vector<std::int32_t> wet_;          // the top level's water mask, one word per node
   std::vector<double> row_sin_, row_cos_;  // sine and cosine of each row's latitude
   // Fine grids: the slices hold degrees/s (the metric folded in per row).
