@@ -950,7 +950,8 @@ std::size_t CurrentField::frame_bytes() const {
   return bytes;
 }
 
-bool CurrentField::horizontal_slice(double t_s, double depth_m, std::vector<float>& uv) const {
+bool CurrentField::horizontal_slice(double t_s, double depth_m, std::vector<float>& uv,
+                                    const float* row_scale) const {
   const FlowSampler& s = hot_;
   double a = 0;
   const TimeBlock* blk = s.find_block(t_s, a);
@@ -964,30 +965,52 @@ bool CurrentField::horizontal_slice(double t_s, double depth_m, std::vector<floa
   const float af = static_cast<float>(a), bf = static_cast<float>(fz);
   const float* top = blk->data + k * static_cast<std::ptrdiff_t>(nodes) * c;
   const float* below = fz > 0.0 ? top + static_cast<std::ptrdiff_t>(nodes) * c : top;
-  // Called three times per drift step on the whole grid: threads and vector
-  // lanes over the nodes (each node independent, so the same bits for any
-  // thread count), with the channel count fixed per loop so it vectorises.
+  // Called up to three times per drift step on the whole grid: threads over
+  // the rows and vector lanes along them (each node independent, so the same
+  // bits for any thread count), with the channel count fixed per loop so it
+  // vectorises; the optional row factors in the same pass.
   float* out = uv.data();
-  auto blend = [&](auto channels) {
+  const std::ptrdiff_t nx = s.nx, ny = s.ny;
+  auto blend = [&](auto channels, auto scaled) {
     constexpr std::ptrdiff_t kC = decltype(channels)::value;
-    const auto count = static_cast<std::ptrdiff_t>(nodes);
-#pragma omp parallel for simd schedule(static) if (count > 65536)
-    for (std::ptrdiff_t n = 0; n < count; ++n) {
-      const float* p = top + n * kC;
-      const float* q = below + n * kC;
-      const float u0 = p[0] + af * p[2], v0 = p[1] + af * p[3];
-      const float u1 = q[0] + af * q[2], v1 = q[1] + af * q[3];
-      out[2 * n] = u0 + bf * (u1 - u0);
-      out[2 * n + 1] = v0 + bf * (v1 - v0);
+    constexpr bool kScaled = decltype(scaled)::value;
+#pragma omp parallel for schedule(static) if (nx * ny > 65536)
+    for (std::ptrdiff_t j = 0; j < ny; ++j) {
+      const float east = kScaled ? row_scale[2 * j] : 1.0f, north = kScaled ? row_scale[2 * j + 1] : 1.0f;
+      const float* p = top + j * nx * kC;
+      const float* q = below + j * nx * kC;
+      float* o = out + 2 * j * nx;
+#pragma omp simd
+      for (std::ptrdiff_t i = 0; i < nx; ++i) {
+        const float u0 = p[i * kC] + af * p[i * kC + 2], v0 = p[i * kC + 1] + af * p[i * kC + 3];
+        const float u1 = q[i * kC] + af * q[i * kC + 2], v1 = q[i * kC + 1] + af * q[i * kC + 3];
+        float u = u0 + bf * (u1 - u0), v = v0 + bf * (v1 - v0);
+        if constexpr (kScaled) {
+          u *= east;
+          v *= north;
+        }
+        o[2 * i] = u;
+        o[2 * i + 1] = v;
+      }
     }
   };
   // A block holds 4 floats per node (u and v, then their changes over the
   // interval), or 6 with vertical velocity (FlowSampler::channels).
-  if (c == 6) {
-    blend(std::integral_constant<std::ptrdiff_t, 6>{});
+  using Four = std::integral_constant<std::ptrdiff_t, 4>;
+  using Six = std::integral_constant<std::ptrdiff_t, 6>;
+  if (row_scale != nullptr) {
+    if (c == 6) blend(Six{}, std::true_type{}); else blend(Four{}, std::true_type{});
   } else {
-    blend(std::integral_constant<std::ptrdiff_t, 4>{});
+    if (c == 6) blend(Six{}, std::false_type{}); else blend(Four{}, std::false_type{});
   }
+  return true;
+}
+
+bool CurrentField::slice_key(double t_s, double depth_m, SliceKey& key) const noexcept {
+  double a = 0;
+  const TimeBlock* blk = hot_.find_block(t_s, a);
+  if (blk == nullptr) return false;
+  key = SliceKey{blk->t0_s, blk->t1_s, a, depth_m};
   return true;
 }
 

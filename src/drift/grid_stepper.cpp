@@ -162,6 +162,11 @@ GridStepper::GridStepper(const currents::CurrentField& field, const EarthModel& 
     row_m_per_deg_lat_[j] = 1.0 / row_north_[j];
   }
   folded_ = worst <= 1e-7;
+  row_scale_.resize(2 * row_sin_.size());
+  for (std::size_t j = 0; j < row_sin_.size(); ++j) {
+    row_scale_[2 * j] = static_cast<float>(row_east_[j]);
+    row_scale_[2 * j + 1] = static_cast<float>(row_north_[j]);
+  }
 }
 
 StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
@@ -174,28 +179,27 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   // Stage times: every scheme uses the start, RK2 and RK4 the middle, RK4 the end.
   const int stages = s.scheme == Scheme::rk4 ? 3 : (s.scheme == Scheme::rk2 ? 2 : 1);
   const double stage_t[3] = {t0_model, t0_model + 0.5 * s.dt_s, t0_model + s.dt_s};
+  const float* scale = folded_ ? row_scale_.data() : nullptr;  // m/s -> degrees/s row by row
   for (int k = 0; k < stages; ++k) {
     std::vector<float>& uv = stage_uv_[k];
-    if (!field_.horizontal_slice(stage_t[k], depth, uv)) {
-      uv.assign(uv.size(), 0.0f);  // outside the prepared frames: still water
+    currents::CurrentField::SliceKey key;
+    const bool known = field_.slice_key(stage_t[k], depth, key);
+    // RK4's start slice is the previous step's end slice, unless a frame
+    // boundary lies there (the end was taken from the interval before it).
+    if (k == 0 && known && end_reusable_ && key == end_key_) {
+      std::swap(stage_uv_[0], stage_uv_[2]);
+      continue;
     }
-    if (folded_) {  // m/s -> degrees/s with each row's metric
-      const std::ptrdiff_t nx = field_.sampler().nx;
-      const auto rows = static_cast<std::ptrdiff_t>(row_east_.size());
-      float* data = uv.data();
-      const double* east_of = row_east_.data();
-      const double* north_of = row_north_.data();
-#pragma omp parallel for schedule(static) if (rows * nx > 65536)
-      for (std::ptrdiff_t j = 0; j < rows; ++j) {
-        const auto east = static_cast<float>(east_of[j]), north = static_cast<float>(north_of[j]);
-        float* row = data + 2 * j * nx;
-        for (std::ptrdiff_t i = 0; i < nx; ++i) {
-          row[2 * i] *= east;
-          row[2 * i + 1] *= north;
-        }
-      }
+    if (!known || !field_.horizontal_slice(stage_t[k], depth, uv, scale)) {
+      const currents::FlowSampler& grid = field_.sampler();
+      uv.assign(static_cast<std::size_t>(2 * grid.nx * grid.ny), 0.0f);  // outside the prepared frames: still water
+    }
+    if (k == 2) {
+      end_reusable_ = known;
+      end_key_ = key;
     }
   }
+  if (stages < 3) end_reusable_ = false;
   const currents::FlowSampler& fs = field_.sampler();
   const double a = earth_.equatorial_radius_m(), e2 = earth_.eccentricity_squared();
   const lanes::Grid g{fs.lon_first, fs.lat_first, fs.inv_dlon, fs.inv_dlat,

@@ -245,24 +245,12 @@ bool ReefLookup::member(int reef, double lon, double lat, int row) const noexcep
   return false;
 }
 
-int ReefLookup::reef_at(double lon, double lat) const noexcept {
-  const double fx = (lon - lon0_) * inv_dlon_;
-  const double fy = (lat - lat0_) * inv_dlat_;
-  // Written so that NaN coordinates fail the test too.
-  if (!(fx >= 0 && fy >= 0 && fx < nx_ && fy < ny_)) return -1;
-  const int ix = static_cast<int>(fx), iy = static_cast<int>(fy);
-  if (!occupied_[static_cast<std::size_t>(iy / kBlock) * static_cast<std::size_t>(block_nx_) +
-                 static_cast<std::size_t>(ix / kBlock)]) {
-    return -1;
-  }
-  const std::int32_t code = cells_[static_cast<std::size_t>(iy) * static_cast<std::size_t>(nx_) +
-                                   static_cast<std::size_t>(ix)];
-  if (code >= -1) return code;
+int ReefLookup::from_candidates(std::int32_t code, double lon, double lat, int row) const noexcept {
   const std::size_t l = static_cast<std::size_t>(-2 - code);
   for (std::uint32_t i = list_start_[l]; i < list_start_[l + 1]; ++i) {
     const std::int32_t entry = lists_[i];
     const int reef = entry >> 1;
-    if ((entry & 1) == 0 || member(reef, lon, lat, iy)) return reef;
+    if ((entry & 1) == 0 || member(reef, lon, lat, row)) return reef;
   }
   return -1;
 }

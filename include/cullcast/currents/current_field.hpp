@@ -155,7 +155,18 @@ class CurrentField {
   // in m/s, row by row from the first latitude: ny·nx·2 values. Returns false
   // when t is outside the prepared frames.
   const FlowSampler& sampler() const noexcept { return hot_; }
-  bool horizontal_slice(double t_s, double depth_m, std::vector<float>& uv) const;
+  // `row_scale` (optional): two factors per row, multiplied into that row's
+  // u and v in the same pass (the grid stepper's metric).
+  bool horizontal_slice(double t_s, double depth_m, std::vector<float>& uv,
+                        const float* row_scale = nullptr) const;
+  // What a slice at (t, depth) is computed from: the loaded interval and the
+  // time fraction in it. Equal keys give the same slice, bit for bit (the
+  // frames of an interval always decode alike). False outside the prepared frames.
+  struct SliceKey {
+    double t0_s = 0, t1_s = 0, a = 0, depth_m = 0;
+    bool operator==(const SliceKey&) const = default;
+  };
+  bool slice_key(double t_s, double depth_m, SliceKey& key) const noexcept;
 
  private:
   struct Impl;

@@ -72,6 +72,11 @@ class GridStepper {
   // Fine grids: the slices hold degrees/s (the metric folded in per row).
   bool folded_ = false;
   std::vector<double> row_east_, row_north_;                   // degrees per metre at each row
+  std::vector<float> row_scale_;                               // the same, as (east, north) floats per row
+  // The end slice of the last RK4 step and what it was computed from: the
+  // next step's start slice when the key matches.
+  bool end_reusable_ = false;
+  currents::CurrentField::SliceKey end_key_;
   std::vector<double> row_m_per_deg_lon_, row_m_per_deg_lat_;  // metres per degree (speeds)
 };
 

@@ -27,8 +27,23 @@ class ReefLookup {
  public:
   ReefLookup(const ReefSet& reefs, double buffer_m);
   // Reef index, or -1 when over no reef. Thread-safe, never throws or allocates.
-  // Where reefs (or their buffers) overlap, the lowest index wins.
-  int reef_at(double lon, double lat) const noexcept;
+  // Where reefs (or their buffers) overlap, the lowest index wins. Inline:
+  // the drift asks once per larva and step, and most answers come from the
+  // raster alone.
+  int reef_at(double lon, double lat) const noexcept {
+    const double fx = (lon - lon0_) * inv_dlon_;
+    const double fy = (lat - lat0_) * inv_dlat_;
+    // Written so that NaN coordinates fail the test too.
+    if (!(fx >= 0 && fy >= 0 && fx < nx_ && fy < ny_)) return -1;
+    const int ix = static_cast<int>(fx), iy = static_cast<int>(fy);
+    if (!occupied_[static_cast<std::size_t>(iy / kBlock) * static_cast<std::size_t>(block_nx_) +
+                   static_cast<std::size_t>(ix / kBlock)]) {
+      return -1;
+    }
+    const std::int32_t code = cells_[static_cast<std::size_t>(iy) * static_cast<std::size_t>(nx_) +
+                                     static_cast<std::size_t>(ix)];
+    return code >= -1 ? code : from_candidates(code, lon, lat, iy);
+  }
 
   // Diagnostics (for logs and the benchmark).
   double cell_size_m() const noexcept { return cell_size_m_; }  // nominal cell side, metres
@@ -46,6 +61,7 @@ class ReefLookup {
     std::size_t bucket = 0;      // index of its first row in bucket_start_
   };
   bool member(int reef, double lon, double lat, int row) const noexcept;
+  int from_candidates(std::int32_t code, double lon, double lat, int row) const noexcept;  // a cell's list
   bool inside_row(int reef, double lon, double lat, int row) const noexcept;
 
   double lon0_ = 0, lat0_ = 0;          // south-west corner of cell (0, 0), degrees
