@@ -83,18 +83,28 @@ inline double floor_by_rounding(double q) noexcept {
 // (fx, fy) across it, with (0, 0) standing in outside the grid (also for
 // NaN); `inside` says which. Conditions are combined with & and | (not &&
 // and ||) so the loops calling this stay free of branches.
+//
+// `Wrap`: longitudes are first brought into [0, 360) east of the grid's
+// start. A batch whose every start lies in [0, 300) east of a grid narrower
+// than 300 degrees skips that (wrap_needed()): within a step positions then
+// stay within a few degrees of the start — far inside (-60, 360) — where a
+// position west of the grid is outside either way (wrapped, it would lie
+// more than 300 degrees east), so both forms give the same bits.
+template <bool Wrap>
 inline void cell(const Grid& g, double lon, double lat, std::int32_t& i, std::int32_t& j, double& fx, double& fy,
                  bool& inside) noexcept {
   double x = lon - g.lon0;
-  // Longitudes east of the grid's start, in [0, 360): a multiplication, not
-  // a division (several times cheaper in vector units); the two corrections
-  // catch the product's rounding next to multiples of 360.
-  double wrapped = x - 360.0 * floor_by_rounding(x * (1.0 / 360.0));
-  wrapped = wrapped >= 360.0 ? wrapped - 360.0 : wrapped;
-  wrapped = wrapped < 0.0 ? wrapped + 360.0 : wrapped;
-  x = ((x < 0.0) | (x >= 360.0)) ? wrapped : x;
+  if constexpr (Wrap) {
+    // Longitudes east of the grid's start, in [0, 360): a multiplication, not
+    // a division (several times cheaper in vector units); the two corrections
+    // catch the product's rounding next to multiples of 360.
+    double wrapped = x - 360.0 * floor_by_rounding(x * (1.0 / 360.0));
+    wrapped = wrapped >= 360.0 ? wrapped - 360.0 : wrapped;
+    wrapped = wrapped < 0.0 ? wrapped + 360.0 : wrapped;
+    x = ((x < 0.0) | (x >= 360.0)) ? wrapped : x;
+  }
   const double gx = x * g.inv_dlon, gy = (lat - g.lat0) * g.inv_dlat;
-  inside = (gx <= g.gx_max) & (gy >= 0.0) & (gy <= g.gy_max);
+  inside = (gx >= 0.0) & (gx <= g.gx_max) & (gy >= 0.0) & (gy <= g.gy_max);
   const double cx = inside ? gx : 0.0, cy = inside ? gy : 0.0;
   const std::int32_t i_max = g.nx - 2, j_max = g.ny - 2;
   i = static_cast<std::int32_t>(cx);
@@ -135,6 +145,7 @@ inline float high_float(std::uint64_t pair) noexcept {
 
 // Velocity of every lane at (xs, ys) from one stage slice, bilinear in space,
 // 0 outside the grid (as CurrentField::sample()); `row` gets the cell's row.
+template <bool Wrap>
 [[gnu::always_inline]] inline void velocity(const Grid& g, const float* uv, const double* __restrict xs,
                                             const double* __restrict ys, double* __restrict u,
                                             double* __restrict v, std::uint32_t* __restrict row) noexcept {
@@ -144,7 +155,7 @@ inline float high_float(std::uint64_t pair) noexcept {
     std::int32_t i, j;
     double fx, fy;
     bool inside;
-    cell(local, xs[l], ys[l], i, j, fx, fy, inside);
+    cell<Wrap>(local, xs[l], ys[l], i, j, fx, fy, inside);
     // Unsigned 32-bit offsets: they widen to addresses without SSE4.1.
     const std::uint32_t k = 2 * (static_cast<std::uint32_t>(j) * nx + static_cast<std::uint32_t>(i)),
                         k2 = k + 2 * nx;
@@ -216,12 +227,13 @@ template <bool Sphere>
 // metres per degree of the row where the lane started the step
 // (`start_m_lon`, `start_m_lat`), within about 1e-4 of the stage's own row:
 // plenty for a Courant check, and two table reads per step, not per stage.
+template <bool Wrap>
 [[gnu::always_inline]] inline void rates(const Grid& g, const float* uv, const double* __restrict xs,
                                          const double* __restrict ys, double* __restrict ka, double* __restrict kb,
                                          double* __restrict speed, const double* __restrict start_m_lon,
                                          const double* __restrict start_m_lat) noexcept {
   std::uint32_t row[kLanes];
-  velocity(g, uv, xs, ys, ka, kb, row);
+  velocity<Wrap>(g, uv, xs, ys, ka, kb, row);
   if (g.folded) {  // slices already in degrees per second
     for (int l = 0; l < kLanes; ++l) {
       const double sp = std::fabs(ka[l]) * start_m_lon[l] + std::fabs(kb[l]) * start_m_lat[l];
@@ -257,6 +269,7 @@ struct StartRows {
 }
 
 // Water, land or outside for every lane's end position.
+template <bool Wrap>
 [[gnu::always_inline]] inline void where(const Grid& g, Batch& b) noexcept {
   const Grid local = g;
   const auto nx = static_cast<std::uint32_t>(local.nx);
@@ -264,7 +277,7 @@ struct StartRows {
     std::int32_t i, j;
     double fx, fy;
     bool inside;
-    cell(local, b.lon[l], b.lat[l], i, j, fx, fy, inside);
+    cell<Wrap>(local, b.lon[l], b.lat[l], i, j, fx, fy, inside);
     const std::int32_t in = i + (fx > 0.5 ? 1 : 0);  // the nearest node
     const std::int32_t jn = j + (fy > 0.5 ? 1 : 0);
     const std::int32_t wet = local.wet[static_cast<std::uint32_t>(jn) * nx + static_cast<std::uint32_t>(in)];
@@ -276,7 +289,8 @@ struct StartRows {
 // The whole step of one batch: the scheme's stages, then the random walk
 // (Gaussian steps of walk_m per axis, the particle's own stream), then where
 // each lane ended.
-[[gnu::always_inline]] inline void advance(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
+template <bool Wrap>
+[[gnu::always_inline]] inline void advance_lanes(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
   double ka[kLanes], kb[kLanes], sum_a[kLanes], sum_b[kLanes], x[kLanes], y[kLanes];
   StartRows rows;
   const double* m_lon = rows.m_lon;
@@ -284,23 +298,23 @@ struct StartRows {
   for (int l = 0; l < kLanes; ++l) b.speed[l] = 0;
   if (g.folded) start_rows(g, b, rows);
   const double dt = plan.dt_s, h = 0.5 * plan.dt_s;
-  rates(g, plan.uv0, b.lon0, b.lat0, ka, kb, b.speed, m_lon, m_lat);
+  rates<Wrap>(g, plan.uv0, b.lon0, b.lat0, ka, kb, b.speed, m_lon, m_lat);
   if (plan.scheme == Scheme::rk4) {
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] = ka[l], sum_b[l] = kb[l];
       x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
     }
-    rates(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
+    rates<Wrap>(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
       x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
     }
-    rates(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
+    rates<Wrap>(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
       x[l] = b.lon0[l] + dt * ka[l], y[l] = b.lat0[l] + dt * kb[l];
     }
-    rates(g, plan.end, x, y, ka, kb, b.speed, m_lon, m_lat);
+    rates<Wrap>(g, plan.end, x, y, ka, kb, b.speed, m_lon, m_lat);
     const double w = dt / 6.0;
     for (int l = 0; l < kLanes; ++l) {
       b.lon[l] = b.lon0[l] + w * (sum_a[l] + ka[l]);
@@ -308,7 +322,7 @@ struct StartRows {
     }
   } else if (plan.scheme == Scheme::rk2) {
     for (int l = 0; l < kLanes; ++l) x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
-    rates(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
+    rates<Wrap>(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
     for (int l = 0; l < kLanes; ++l) b.lon[l] = b.lon0[l] + dt * ka[l], b.lat[l] = b.lat0[l] + dt * kb[l];
   } else {
     for (int l = 0; l < kLanes; ++l) b.lon[l] = b.lon0[l] + dt * ka[l], b.lat[l] = b.lat0[l] + dt * kb[l];
@@ -331,7 +345,28 @@ struct StartRows {
       b.lat[l] += z1[l] * walk * north[l];
     }
   }
-  where(g, b);
+  where<Wrap>(g, b);
+}
+
+// Whether a batch needs longitudes wrapped (see cell()). Currents (at most
+// the decoder's speed limit) and the random walk (deviates capped at 5.9 σ)
+// move a larva a few degrees per step at the very most.
+[[gnu::always_inline]] inline bool wrap_needed(const Grid& g, const Batch& b) noexcept {
+  if (g.gx_max / g.inv_dlon >= 300.0) return true;  // (nearly) global grid
+  bool far = false;
+  for (int l = 0; l < kLanes; ++l) {
+    const double x = b.lon0[l] - g.lon0;
+    far |= !((x >= 0.0) & (x < 300.0));  // also NaN
+  }
+  return far;
+}
+
+[[gnu::always_inline]] inline void advance(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
+  if (wrap_needed(g, b)) {
+    advance_lanes<true>(g, plan, b);
+  } else {
+    advance_lanes<false>(g, plan, b);
+  }
 }
 
 }  // namespace cullcast::drift::lanes
