@@ -947,6 +947,16 @@ std::size_t CurrentField::frame_bytes() const {
   std::size_t bytes = 0;
   for (const Block& b : m.blocks) bytes += (b.vel.size() + b.temp.size() + b.chl.size()) * sizeof(float);
   bytes += (m.last.vel.size() + m.last.temp.size() + m.last.chl.size()) * sizeof(float) + m.last.wet.size();
+  if (m.ahead) {
+    // The interval being decoded: counted at its finished size (its buffers
+    // are the decoder thread's until a prepare() takes them over) — one
+    // block and its two frames.
+    const std::size_t n = m.nodes();
+    const std::size_t scalars = (m.use_temp ? 1 : 0) + (m.use_chl ? 1 : 0);
+    const std::size_t block = (n * static_cast<std::size_t>(m.has_w ? 6 : 4) + 2 * n * scalars) * sizeof(float);
+    const std::size_t frame = (n * static_cast<std::size_t>(m.vel_channels()) + n * scalars) * sizeof(float) + n;
+    bytes += block + 2 * frame;
+  }
   return bytes;
 }
 

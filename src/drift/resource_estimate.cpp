@@ -93,8 +93,10 @@ ResourceEstimate estimate_resources(const study::Study& study, const currents::C
   e.particle_bytes = e.particles * e.bytes_per_particle;
 
   // Current frames (current_field.cpp): the interval blocks from the one in
-  // use to `frames_ahead` ahead, two spare blocks kept for reuse, one decoded
-  // frame, and the double-precision buffers a frame is read into.
+  // use to `frames_ahead` ahead, two spare blocks kept for reuse, decoded
+  // frames (one; two while the background decoder works on the last
+  // interval: counted both ways), and the double-precision buffers a frame is
+  // read into.
   const auto& g = field.grid();
   e.grid_nodes = static_cast<std::uint64_t>(g.nx) * g.ny * std::max<std::size_t>(1, g.nz);
   const bool w = !field.variables().w.empty() && study.motion.depth == "3d";
@@ -102,7 +104,7 @@ ResourceEstimate estimate_resources(const study::Study& study, const currents::C
   const std::uint64_t scalars = (temperature ? 1 : 0) + (food ? 1 : 0);
   const std::uint64_t block_per_node = (2 * velocity + 2 * scalars) * kFloat;
   e.frames_in_memory = static_cast<std::uint64_t>(std::max(0, study.currents.frames_ahead)) + 1 + 2;
-  const std::uint64_t decoded_per_node = (velocity + scalars) * kFloat + 1 + (velocity + scalars + 1) * kDouble;
+  const std::uint64_t decoded_per_node = 2 * ((velocity + scalars) * kFloat + 1) + (velocity + scalars + 1) * kDouble;
   e.frame_bytes = e.grid_nodes * (e.frames_in_memory * block_per_node + decoded_per_node);
   e.baseline_bytes = kBaseline;
   e.memory_bytes = e.baseline_bytes + e.particle_bytes + e.frame_bytes;
