@@ -334,24 +334,20 @@ TEST_CASE("streaming: the background decoder gives the same data and reports err
   }
   // The bad frames: an error, naming the file and the speed, from both; the
   // background decoder's surfaces once its interval is needed, not later.
+  auto first_failure = [&](CurrentField& f, std::string& message) {  // the step whose prepare() throws
+    for (double t = t0 + 60 * 3600.0; t + 1200 <= t0 + 95 * 3600.0; t += 1200) {
+      try {
+        f.prepare(t, t + 1200);
+      } catch (const InputError& e) {
+        message = e.what();
+        return t;
+      }
+    }
+    return 0.0;
+  };
   std::string message_fg, message_bg;
-  double failed_fg = 0, failed_bg = 0;
-  for (double t = t0 + 60 * 3600.0; t + 1200 <= t0 + 95 * 3600.0 && message_fg.empty(); t += 1200) {
-    try {
-      foreground.prepare(t, t + 1200);
-    } catch (const InputError& e) {
-      message_fg = e.what();
-      failed_fg = t;
-    }
-  }
-  for (double t = t0 + 60 * 3600.0; t + 1200 <= t0 + 95 * 3600.0 && message_bg.empty(); t += 1200) {
-    try {
-      background.prepare(t, t + 1200);
-    } catch (const InputError& e) {
-      message_bg = e.what();
-      failed_bg = t;
-    }
-  }
+  const double failed_fg = first_failure(foreground, message_fg);
+  const double failed_bg = first_failure(background, message_bg);
   CHECK(message_bg == message_fg);
   CHECK_THAT(message_bg, Catch::Contains("part3") && Catch::Contains("exceeds"));
   // The frame at hour 80 is needed from the step starting at 79 h; the
