@@ -71,8 +71,9 @@ std::vector<Explanation> explain(const CullModel& m, const Robustness& r, const 
     if (m.weights[site.reef] > 0) {
       double self = 0;
       for (int s : site.sources) self += larvae[s] * m.mean.coeff(s, site.reef);
-      t += " It is itself a priority reef: " + prob(larvae_here > 0 ? self / larvae_here : 0.0) +
-           " of its larvae per larva resettle on it.";
+      const double share = larvae_here > 0 ? self / larvae_here : 0.0;
+      t += share > 0 ? " It is itself a priority reef: a fraction " + prob(share) + " of its larvae resettle on it."
+                     : " It is itself a priority reef, though none of its larvae were seen resettling on it.";
     }
     if (!ex.direct.empty()) {
       t += " Its larvae settle directly on priority reef";
