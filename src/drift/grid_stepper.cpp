@@ -3,7 +3,6 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdlib>
-#include <limits>
 #include <string>
 
 #include "cullcast/base/error.hpp"
@@ -40,24 +39,11 @@ struct SlicedScalars {
   const currents::FlowSampler& grid;
   const float* temperature;  // nullptr when off
   const float* chlorophyll;
-  static double at(const currents::FlowSampler& g, const float* slice, double lon, double lat) noexcept {
-    currents::CellHit h;
-    if (slice == nullptr || !g.locate(lon, lat, h)) return std::numeric_limits<double>::quiet_NaN();
-    double sum = 0, wsum = 0;
-    for (int dj = 0; dj < 2; ++dj) {
-      for (int di = 0; di < 2; ++di) {
-        const double w = (di ? h.fx : 1.0 - h.fx) * (dj ? h.fy : 1.0 - h.fy);
-        if (w == 0.0) continue;  // a masked node beside the point does not count
-        const float* node = slice + 2 * ((h.j + dj) * g.nx + h.i + di);
-        sum += w * node[0];
-        wsum += w * node[1];
-      }
-    }
-    return wsum > 0 ? sum / wsum : std::numeric_limits<double>::quiet_NaN();
+  double temperature_c(double, double lon, double lat, double) const noexcept {
+    return temperature ? grid.from_scalar_slice(temperature, lon, lat) : std::nan("");
   }
-  double temperature_c(double, double lon, double lat, double) const noexcept { return at(grid, temperature, lon, lat); }
   double chlorophyll_mg_m3(double, double lon, double lat, double) const noexcept {
-    return at(grid, chlorophyll, lon, lat);
+    return chlorophyll ? grid.from_scalar_slice(chlorophyll, lon, lat) : std::nan("");
   }
 };
 

@@ -123,6 +123,25 @@ struct FlowSampler {
     return mask[(k * ny + j) * nx + i] != 0;
   }
 
+  // A scalar at a point from a slice of CurrentField::scalar_slice() (per
+  // node: weighted sum and weight of the known values): the bilinear mean
+  // over the known values, NaN outside the grid or where none is known.
+  double from_scalar_slice(const float* slice, double lon_deg, double lat_deg) const noexcept {
+    CellHit h;
+    if (!locate(lon_deg, lat_deg, h)) return std::nan("");
+    double sum = 0, wsum = 0;
+    for (int dj = 0; dj < 2; ++dj) {
+      for (int di = 0; di < 2; ++di) {
+        const double w = (di ? h.fx : 1.0 - h.fx) * (dj ? h.fy : 1.0 - h.fy);
+        if (w == 0.0) continue;  // a node the point does not reach does not count, even if unknown
+        const float* node = slice + 2 * ((h.j + dj) * nx + h.i + di);
+        sum += w * node[0];
+        wsum += w * node[1];
+      }
+    }
+    return wsum > 0 ? sum / wsum : std::nan("");
+  }
+
   // Land when the node nearest to the point (in cell coordinates) is masked.
   bool nearest_wet(const CellHit& h, std::ptrdiff_t k, double fz) const noexcept {
     const std::ptrdiff_t kk = (fz > 0.5) ? k + 1 : k;
