@@ -1109,7 +1109,12 @@ void CurrentField::prepare(double t0_s, double t1_s) {
     if (!fits) {
       m.discard_ahead();
     } else if (k < needed_end) {
-      m.ahead->done.get();  // its error, if any, is this call's (the interval is needed)
+      try {
+        m.ahead->done.get();  // its error, if any, is this call's (the interval is needed)
+      } catch (...) {
+        m.discard_ahead();  // a later prepare() reads the interval itself (and meets the error again)
+        throw;
+      }
       m.blocks.push_back(std::move(m.ahead->block));
       m.last = std::move(m.ahead->second);
       m.last_index = k + 1;

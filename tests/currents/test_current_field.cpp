@@ -349,6 +349,8 @@ TEST_CASE("streaming: the background decoder gives the same data and reports err
   const double failed_fg = first_failure(foreground, message_fg);
   const double failed_bg = first_failure(background, message_bg);
   CHECK(message_bg == message_fg);
+  // Asked again, the field reads the bad interval itself: the same error, not a stale state.
+  CHECK_THROWS_WITH(background.prepare(failed_bg, failed_bg + 1200), message_fg);
   CHECK_THAT(message_bg, Catch::Contains("part3") && Catch::Contains("exceeds"));
   // The frame at hour 80 is needed from the step starting at 79 h; the
   // foreground reads one interval ahead, so it fails an hour earlier.
