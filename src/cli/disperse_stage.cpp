@@ -81,6 +81,7 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
               << study.motion.kh_m2_s << " m2/s, " << omp_get_max_threads() << " threads)\n";
     }
     field.emplace(currents::CurrentField::open(study.currents));
+    field->set_background_reads(team.processor_spare());  // counts the other ranks on this machine
     reef_set.emplace(reefs::ReefSet::load(study.reefs));
     const auto sources = reefs::release_sources(*reef_set, study);
     if (!ctx.quiet && root) {
@@ -120,6 +121,7 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
     summary = drift::run_drift(study, *field, *reef_set, sources,
                                [&](const drift::DriftProgress& p) { display(p); },
                                team.share(study, sources.size()), checkpoint);
+    if (field->background_reads()) summary.stepper += "; next frames decoded on a spare processor";
     display.finish();
     if (!ctx.quiet && root && !team.queue_report().empty()) ctx.out << "  " << team.queue_report() << "\n";
   } catch (const InputError& e) {

@@ -19,6 +19,7 @@
 #include <vector>
 
 #include "cullcast/base/error.hpp"
+#include "cullcast/base/system_resources.hpp"
 #include "cullcast/drift/batch_queue.hpp"
 
 #ifdef CULLCAST_WITH_MPI
@@ -254,6 +255,10 @@ DriftTeam::DriftTeam() {
   // batches twice and others never.
   if (rank_ == 0) static_share_ = static_share_from_environment(static_share_text_);
   MPI_Bcast(&static_share_, 1, MPI_DOUBLE, 0, MPI_COMM_WORLD);
+  MPI_Comm node;  // the ranks sharing this machine
+  MPI_Comm_split_type(MPI_COMM_WORLD, MPI_COMM_TYPE_SHARED, rank_, MPI_INFO_NULL, &node);
+  MPI_Comm_size(node, &ranks_here_);
+  MPI_Comm_free(&node);
 #else
   throw InputError("an MPI launcher started " + std::to_string(launched_processes()) +
                    " copies of cullcast, but this cullcast was built without MPI: each copy would do "
@@ -430,6 +435,12 @@ std::string DriftTeam::binding_warning() const {
   return "rank " + std::to_string(rank_) + " runs " + std::to_string(threads) + " threads on " +
          std::to_string(cores) + " core(s) (the launcher's binding): start it with mpirun --bind-to none, "
          "or --map-by slot:PE=" + std::to_string(threads) + ", or set OMP_NUM_THREADS=" + std::to_string(cores);
+}
+
+bool DriftTeam::processor_spare() const {
+  // Conservative: ranks whose launcher bound them to their own cores also
+  // count as sharing the ones this rank sees.
+  return static_cast<unsigned>(ranks_here_) * static_cast<unsigned>(omp_get_max_threads()) < usable_cpus();
 }
 
 void DriftTeam::fail(const std::string& message, int exit_code) const {

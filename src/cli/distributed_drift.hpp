@@ -57,6 +57,10 @@ class DriftTeam {
   // Empty, or why this rank's threads share too few cores (mpirun binds each
   // rank to one core by default, whatever OMP_NUM_THREADS says).
   std::string binding_warning() const;
+  // Whether this machine has a processor no rank's threads use (ranks here ×
+  // threads < processors this rank may use): then each rank decodes its next
+  // currents frames on it (CurrentField::prepare).
+  bool processor_spare() const;
   // Prints "cullcast: rank R of N: <message>" and stops every rank of the job
   // with `exit_code`; with one process, only throws.
   [[noreturn]] void fail(const std::string& message, int exit_code) const;
@@ -67,6 +71,7 @@ class DriftTeam {
 
   int rank_ = 0, size_ = 1;
   bool joined_ = false;
+  int ranks_here_ = 1;  // ranks of this job on this machine (this process alone without MPI)
   double static_share_ = 1.0;  // CULLCAST_MPI_STATIC_SHARE as rank 0 read it; NaN if invalid
   std::string static_share_text_;
   std::shared_ptr<Desk> desk_;

@@ -1126,9 +1126,8 @@ void CurrentField::prepare(double t0_s, double t1_s) {
   size_t next = m.blocks.empty() ? a : m.blocks.back().k + 1;
   // Moving forward with read-ahead: the last interval of the window (one not
   // needed yet) goes to a background thread.
-  const bool spare_cpu = static_cast<unsigned>(omp_get_max_threads()) < usable_cpus();
-  const bool read_behind = m.background_reads.value_or(spare_cpu) && forward && n > 1 &&
-                           last_interval >= needed_end && !m.ahead && next <= last_interval;
+  const bool read_behind =
+      background_reads() && forward && n > 1 && last_interval >= needed_end && !m.ahead && next <= last_interval;
   const size_t sync_end = m.ahead ? m.ahead->k : (read_behind ? last_interval : last_interval + 1);
   for (; next < sync_end; ++next) {
     Block blk;
@@ -1260,6 +1259,10 @@ bool CurrentField::scalar_slice(ScalarKind kind, double t_s, double depth_m, std
 void CurrentField::settle() {
   Impl& m = *impl_;
   if (m.ahead && m.ahead->done.valid()) m.ahead->done.wait();
+}
+
+bool CurrentField::background_reads() const {
+  return impl_->background_reads.value_or(static_cast<unsigned>(omp_get_max_threads()) < usable_cpus());
 }
 
 void CurrentField::set_background_reads(bool on) {

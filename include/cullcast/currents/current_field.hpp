@@ -101,6 +101,8 @@ class CurrentField {
   // Forces the background decoder on or off (by default it runs when a
   // processor is spare); either way the data are the same.
   void set_background_reads(bool on);
+  // Whether prepare() hands read-ahead to the background decoder now.
+  bool background_reads() const;
 
   // Bilinear in space (trilinear with depth), linear in time, between the
   // prepared frames. Masked nodes count as velocity 0. Thread-safe for
