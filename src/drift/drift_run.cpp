@@ -145,6 +145,14 @@ bool needs_extras(const study::Study& study) {
          study.larvae.temperature_effect == "auto" || study.larvae.food_effect == "auto";
 }
 
+// Waits for the currents' background decoder when a run ends, also when an
+// error leaves it: other NetCDF work (settlement file, tracks) must not meet
+// it (the library is not thread-safe).
+struct SettleOnExit {
+  currents::CurrentField& field;
+  ~SettleOnExit() { field.settle(); }
+};
+
 }  // namespace
 
 void check_time_coverage(const study::Study& study, const currents::CurrentField& field) {
@@ -342,13 +350,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
   }
   GridStepper grid_stepper(field, earth);
   auto last_checkpoint = Clock::now();
-  // The currents' background decoder must be idle before any other NetCDF
-  // work (settlement file, tracks; the library is not thread-safe), also
-  // when an error leaves the loop.
-  struct SettleOnExit {
-    currents::CurrentField& field;
-    ~SettleOnExit() { field.settle(); }
-  } settle_on_exit{field};
+  const SettleOnExit settle_on_exit{field};
 
   const auto stage_start = Clock::now();
   std::uint64_t stepped = 0;               // particle-steps of this process before this event
@@ -622,10 +624,7 @@ fs::path run_backward(const study::Study& study, currents::CurrentField& field,
   std::vector<double> joins_after(p.size());  // backward seconds from `last` to the arrival
   for (std::size_t i = 0; i < p.size(); ++i) joins_after[i] = window - p.release_s[i];
   const auto steps = static_cast<std::uint32_t>(std::ceil((window + clock.max_age_s()) / dt - 1e-9));
-  struct SettleOnExit {  // as in run_drift
-    currents::CurrentField& field;
-    ~SettleOnExit() { field.settle(); }
-  } settle_on_exit{field};
+  const SettleOnExit settle_on_exit{field};
   for (std::uint32_t k = 0; k < steps; ++k) {
     const double t0 = last - k * dt;
     for (std::size_t i = 0; i < p.size(); ++i) {
