@@ -1,7 +1,6 @@
 #include "distributed_drift.hpp"
 
 #include <omp.h>
-#include <sched.h>
 
 #include <algorithm>
 #include <chrono>
@@ -427,10 +426,8 @@ std::string DriftTeam::describe(const study::Study& study, std::size_t source_co
 }
 
 std::string DriftTeam::binding_warning() const {
-  cpu_set_t cpus;
-  CPU_ZERO(&cpus);
-  if (size_ == 1 || sched_getaffinity(0, sizeof cpus, &cpus) != 0) return {};
-  const int cores = CPU_COUNT(&cpus), threads = omp_get_max_threads();
+  if (size_ == 1) return {};
+  const int cores = static_cast<int>(usable_cpus()), threads = omp_get_max_threads();
   if (cores >= threads) return {};
   return "rank " + std::to_string(rank_) + " runs " + std::to_string(threads) + " threads on " +
          std::to_string(cores) + " core(s) (the launcher's binding): start it with mpirun --bind-to none, "
