@@ -58,7 +58,7 @@ priority = "priority"
 label = "one night"
 start = "2026-12-01T12:00:00Z"
 hours = 2.0
-larvae_per_reef = 1000
+larvae_per_reef = 4000
 [larvae]
 precompetent_days = 0.5
 competent_days = 2.5
