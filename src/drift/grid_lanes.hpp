@@ -13,6 +13,9 @@
 #include <cmath>
 #include <cstdint>
 #include <cstring>
+#if defined(__SSE2__)
+#include <immintrin.h>
+#endif
 
 #include "cullcast/base/random.hpp"
 #include "cullcast/drift/integrator.hpp"
@@ -130,47 +133,74 @@ inline double keep_or_zero(bool keep, double value) noexcept {
   return std::bit_cast<double>(std::bit_cast<std::uint64_t>(value) & mask);
 }
 
-// The (u, v) floats of the node at uv[k] as one 64-bit word, and back.
-inline std::uint64_t node_pair(const float* uv, std::uint32_t k) noexcept {
-  std::uint64_t pair;
-  std::memcpy(&pair, uv + k, sizeof pair);
-  return pair;
-}
-inline float low_float(std::uint64_t pair) noexcept {  // the first float in memory (x86-64 is little-endian)
-  return std::bit_cast<float>(static_cast<std::uint32_t>(pair));
-}
-inline float high_float(std::uint64_t pair) noexcept {
-  return std::bit_cast<float>(static_cast<std::uint32_t>(pair >> 32));
+// The (u, v) values at the four corners of every lane's cell, lane by lane
+// in each array (structure of arrays, as the weighting loop wants them).
+struct Corners {
+  alignas(64) float u00[kLanes], v00[kLanes], u10[kLanes], v10[kLanes];  // south row: west, east node
+  alignas(64) float u01[kLanes], v01[kLanes], u11[kLanes], v11[kLanes];  // north row
+};
+
+// One row of a cell is four contiguous floats (u, v of its west node, then
+// of its east node): one 128-bit load per row and lane, and a 4 x 4
+// transpose turns four lanes' loads into the arrays. The compiler's own
+// form of this loop fetches every node separately through emulated
+// gathers, with twice the loads and many more shuffles. Only loads and
+// shuffles: the values, and so the results, are the same bits either way.
+[[gnu::always_inline]] inline void row_corners(const float* uv, const std::uint32_t* k, float* west_u,
+                                               float* west_v, float* east_u, float* east_v) noexcept {
+#if defined(__SSE2__)
+  for (int l = 0; l < kLanes; l += 4) {
+    __m128 a = _mm_loadu_ps(uv + k[l]), b = _mm_loadu_ps(uv + k[l + 1]);
+    __m128 c = _mm_loadu_ps(uv + k[l + 2]), d = _mm_loadu_ps(uv + k[l + 3]);
+    _MM_TRANSPOSE4_PS(a, b, c, d);
+    _mm_store_ps(west_u + l, a);
+    _mm_store_ps(west_v + l, b);
+    _mm_store_ps(east_u + l, c);
+    _mm_store_ps(east_v + l, d);
+  }
+#else
+  for (int l = 0; l < kLanes; ++l) {
+    const float* node = uv + k[l];
+    west_u[l] = node[0], west_v[l] = node[1], east_u[l] = node[2], east_v[l] = node[3];
+  }
+#endif
 }
 
 // Velocity of every lane at (xs, ys) from one stage slice, bilinear in space,
-// 0 outside the grid (as CurrentField::sample()); `row` gets the cell's row.
+// 0 outside the grid (as CurrentField::sample()).
 template <bool Wrap>
 [[gnu::always_inline]] inline void velocity(const Grid& g, const float* uv, const double* __restrict xs,
                                             const double* __restrict ys, double* __restrict u,
-                                            double* __restrict v, std::uint32_t* __restrict row) noexcept {
+                                            double* __restrict v) noexcept {
   const Grid local = g;  // a copy the stores below cannot alias (keeps it in registers)
   const auto nx = static_cast<std::uint32_t>(local.nx);
+  alignas(64) std::uint32_t south[kLanes], north[kLanes];  // offsets of the cell's rows in uv
+  alignas(64) float wx[kLanes], wy[kLanes];                // fractions across the cell
+  alignas(64) std::uint32_t keep[kLanes];                  // 1 inside the grid
   for (int l = 0; l < kLanes; ++l) {
     std::int32_t i, j;
     double fx, fy;
     bool inside;
     cell<Wrap>(local, xs[l], ys[l], i, j, fx, fy, inside);
     // Unsigned 32-bit offsets: they widen to addresses without SSE4.1.
-    const std::uint32_t k = 2 * (static_cast<std::uint32_t>(j) * nx + static_cast<std::uint32_t>(i)),
-                        k2 = k + 2 * nx;
+    south[l] = 2 * (static_cast<std::uint32_t>(j) * nx + static_cast<std::uint32_t>(i));
+    north[l] = south[l] + 2 * nx;
     // Weights and sums in single precision, as CurrentField::sample() does:
     // the node values are floats, and twice the lanes fit a vector.
-    const float gx = static_cast<float>(fx), gy = static_cast<float>(fy);
+    wx[l] = static_cast<float>(fx);
+    wy[l] = static_cast<float>(fy);
+    keep[l] = inside ? 1u : 0u;
+  }
+  Corners c;
+  row_corners(uv, south, c.u00, c.v00, c.u10, c.v10);
+  row_corners(uv, north, c.u01, c.v01, c.u11, c.v11);
+  for (int l = 0; l < kLanes; ++l) {
+    const float gx = wx[l], gy = wy[l];
     const float w00 = (1 - gx) * (1 - gy), w10 = gx * (1 - gy), w01 = (1 - gx) * gy, w11 = gx * gy;
-    // Each node's (u, v) read as one 64-bit word: half as many gathers.
-    const std::uint64_t n00 = node_pair(uv, k), n10 = node_pair(uv, k + 2), n01 = node_pair(uv, k2),
-                        n11 = node_pair(uv, k2 + 2);
-    const float uu = w00 * low_float(n00) + w10 * low_float(n10) + w01 * low_float(n01) + w11 * low_float(n11);
-    const float vv = w00 * high_float(n00) + w10 * high_float(n10) + w01 * high_float(n01) + w11 * high_float(n11);
-    u[l] = keep_or_zero(inside, static_cast<double>(uu));
-    v[l] = keep_or_zero(inside, static_cast<double>(vv));
-    row[l] = static_cast<std::uint32_t>(j);
+    const float uu = w00 * c.u00[l] + w10 * c.u10[l] + w01 * c.u01[l] + w11 * c.u11[l];
+    const float vv = w00 * c.v00[l] + w10 * c.v10[l] + w01 * c.v01[l] + w11 * c.v11[l];
+    u[l] = keep_or_zero(keep[l] != 0, static_cast<double>(uu));
+    v[l] = keep_or_zero(keep[l] != 0, static_cast<double>(vv));
   }
 }
 
@@ -232,8 +262,7 @@ template <bool Wrap>
                                          const double* __restrict ys, double* __restrict ka, double* __restrict kb,
                                          double* __restrict speed, const double* __restrict start_m_lon,
                                          const double* __restrict start_m_lat) noexcept {
-  std::uint32_t row[kLanes];
-  velocity<Wrap>(g, uv, xs, ys, ka, kb, row);
+  velocity<Wrap>(g, uv, xs, ys, ka, kb);
   if (g.folded) {  // slices already in degrees per second
     for (int l = 0; l < kLanes; ++l) {
       const double sp = std::fabs(ka[l]) * start_m_lon[l] + std::fabs(kb[l]) * start_m_lat[l];
@@ -268,21 +297,24 @@ struct StartRows {
   }
 }
 
-// Water, land or outside for every lane's end position.
+// Water, land or outside for every lane's end position. Separate restrict
+// pointers, not the Batch: through one struct the compiler cannot tell the
+// stores from the loads and leaves the loop scalar.
 template <bool Wrap>
-[[gnu::always_inline]] inline void where(const Grid& g, Batch& b) noexcept {
+[[gnu::always_inline]] inline void where(const Grid& g, const double* __restrict lon, const double* __restrict lat,
+                                         std::int32_t* __restrict out) noexcept {
   const Grid local = g;
   const auto nx = static_cast<std::uint32_t>(local.nx);
   for (int l = 0; l < kLanes; ++l) {
     std::int32_t i, j;
     double fx, fy;
     bool inside;
-    cell<Wrap>(local, b.lon[l], b.lat[l], i, j, fx, fy, inside);
+    cell<Wrap>(local, lon[l], lat[l], i, j, fx, fy, inside);
     const std::int32_t in = i + (fx > 0.5 ? 1 : 0);  // the nearest node
     const std::int32_t jn = j + (fy > 0.5 ? 1 : 0);
     const std::int32_t wet = local.wet[static_cast<std::uint32_t>(jn) * nx + static_cast<std::uint32_t>(in)];
     const std::int32_t on_grid = wet != 0 ? kWater : kLand;
-    b.where[l] = inside ? on_grid : kOutside;
+    out[l] = inside ? on_grid : kOutside;
   }
 }
 
@@ -345,7 +377,7 @@ template <bool Wrap>
       b.lat[l] += z1[l] * walk * north[l];
     }
   }
-  where<Wrap>(g, b);
+  where<Wrap>(g, b.lon, b.lat, b.where);
 }
 
 // Whether a batch needs longitudes wrapped (see cell()). Currents (at most
