@@ -4,6 +4,7 @@
 #include "cullcast/currents/current_field.hpp"
 
 #include <algorithm>
+#include <iterator>
 #include <cmath>
 #include <deque>
 #include <exception>
@@ -228,19 +229,43 @@ struct CurrentField::Impl {
                        " in " + quote(fi.path) + " (file truncated or damaged?): " + nc::why(e));
     }
     out.resize(n);
+    unpack(dec, out);
+  }
+
+  // CF unpacking of `buffer` (file order) into `out` (internal order): NaN
+  // where a value is missing or out of the valid range. Written so the
+  // inner loop vectorises: up to four missing-value codes compared without a
+  // loop, the column flip outside it (a frame's conversion costs as much as
+  // inflating it otherwise).
+  void unpack(const Decoding& dec, std::vector<double>& out) const {
     const std::ptrdiff_t nx = geo.nx, ny = geo.ny, nz = geo.nz;
+    constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+    double codes[4] = {kNaN, kNaN, kNaN, kNaN};  // NaN never compares equal: an unused slot
+    const std::size_t listed = dec.missing.size();
+    for (std::size_t k = 0; k < std::min<std::size_t>(listed, 4); ++k) codes[k] = dec.missing[k];
+    const double m0 = codes[0], m1 = codes[1], m2 = codes[2], m3 = codes[3];
+    const double lo = dec.valid_min, hi = dec.valid_max;
+    const double scale = dec.scale, offset = dec.offset, factor = dec.factor, shift = dec.shift;
+    std::vector<double> flipped;
     for (std::ptrdiff_t k = 0; k < nz; ++k) {
       const std::ptrdiff_t kf = geo.flip_z ? nz - 1 - k : k;
       for (std::ptrdiff_t j = 0; j < ny; ++j) {
         const std::ptrdiff_t jf = geo.flip_y ? ny - 1 - j : j;
         const double* src = buffer.data() + (kf * ny + jf) * nx;
+        if (geo.flip_x) {
+          flipped.assign(std::make_reverse_iterator(src + nx), std::make_reverse_iterator(src));
+          src = flipped.data();
+        }
         double* dst = out.data() + (k * ny + j) * nx;
         for (std::ptrdiff_t i = 0; i < nx; ++i) {
-          const double p = src[geo.flip_x ? nx - 1 - i : i];
-          bool bad = std::isnan(p) || p < dec.valid_min || p > dec.valid_max;
-          for (double m : dec.missing) bad = bad || p == m;
-          dst[i] = bad ? std::numeric_limits<double>::quiet_NaN()
-                       : (p * dec.scale + dec.offset) * dec.factor + dec.shift;
+          const double p = src[i];
+          bool bad = std::isnan(p) | (p < lo) | (p > hi) | (p == m0) | (p == m1) | (p == m2) | (p == m3);
+          dst[i] = bad ? kNaN : (p * scale + offset) * factor + shift;
+        }
+        for (std::size_t m = 4; m < listed; ++m) {  // rare: more than four codes
+          for (std::ptrdiff_t i = 0; i < nx; ++i) {
+            if (src[i] == dec.missing[m]) dst[i] = kNaN;
+          }
         }
       }
     }
