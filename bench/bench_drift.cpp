@@ -269,8 +269,11 @@ int main(int argc, char** argv) {
     three_d.kv_m2_s = 0.001;
     timed("3-D (w, Kv, reflection):", three_d);
   }
+  // The arrays of ParticleSet plus the walk deviates the grid stepper keeps
+  // for the next step (Kh > 0 here).
   std::printf("memory: %zu bytes per particle; current frames held: %.1f MB\n",
-              drift::ParticleSet::bytes_per_particle, field.frame_bytes() / 1e6);
+              drift::ParticleSet::bytes_per_particle + drift::ParticleSet::walk_cache_bytes_per_particle,
+              field.frame_bytes() / 1e6);
   fs::remove_all(dir);
   return 0;
 }

@@ -73,6 +73,13 @@ struct Batch {
   alignas(64) std::uint32_t source[kLanes];
   alignas(64) std::uint32_t particle[kLanes];
   alignas(64) std::int32_t where[kLanes];  // Where (written)
+  // The random walk's deviates (CounterRandom::walk_normal2). With
+  // `walk_cached` (an odd step whose pair the even step kept) they are this
+  // step's, read; otherwise the kernel draws the pair block, and on an even
+  // step leaves the odd step's deviates here for the caller to keep.
+  alignas(64) float walk0[kLanes];
+  alignas(64) float walk1[kLanes];
+  bool walk_cached;
 };
 
 // floor(q) for |q| < 2^51 by rounding through 1.5·2^52: plain double
@@ -361,7 +368,16 @@ template <bool Wrap>
   }
   if (plan.walk_m > 0) {
     double z0[kLanes], z1[kLanes], east[kLanes], north[kLanes];
-    plan.rng->normal2_batch(plan.event, b.source, b.particle, kLanes, plan.step, Draw::diffusion, z0, z1);
+    if (b.walk_cached) {
+      for (int l = 0; l < kLanes; ++l) z0[l] = b.walk0[l], z1[l] = b.walk1[l];
+    } else {
+      // One generator block serves this step and the next (steps 2m, 2m + 1).
+      plan.rng->walk_normal4_batch(plan.event, b.source, b.particle, kLanes, plan.step >> 1, z0, z1, b.walk0,
+                                   b.walk1);
+      if ((plan.step & 1u) != 0) {
+        for (int l = 0; l < kLanes; ++l) z0[l] = b.walk0[l], z1[l] = b.walk1[l];
+      }
+    }
     if (g.folded) {
       // Fine grids: the metric of the start row. A step moves a larva a
       // fraction of a row, over which degrees per metre change by under

@@ -219,6 +219,17 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   const SlicedScalars scalars{field_.sampler(), warm ? temperature_.data() : nullptr,
                               fed ? chlorophyll_.data() : nullptr};
 
+  // Walk deviates: an even step keeps the next (odd) step's pair, drawn from
+  // the same generator block; the odd step then uses it for every particle
+  // that was drifting already (CounterRandom::walk_normal2).
+  const bool walking = plan.walk_m > 0;
+  const bool odd_step = (step & 1u) != 0;
+  const bool keep_next = walking && !odd_step;
+  const bool kept = walking && odd_step && p.walk_next_step == step && p.walk_next_event == s.event &&
+                    p.walk_next.size() == 2 * p.size();
+  if (keep_next) p.walk_next.resize(2 * p.size());
+  float* const walk_next = p.walk_next.data();
+
   std::uint64_t particle_steps = 0, land_contacts = 0, released = 0, settled = 0, died = 0, stranded = 0,
                 lost = 0;
   double max_speed = 0;
@@ -239,6 +250,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
     reduction(max : max_speed)
   for (std::int64_t chunk = 0; chunk < chunks; ++chunk) {
     std::int64_t drifting[kChunk];
+    bool fresh[kChunk];  // released this step: no kept walk deviates
     int count = 0;
     const std::int64_t chunk_end = std::min(n, (chunk + 1) * kChunk);
     for (std::int64_t i = chunk * kChunk; i < chunk_end; ++i) {
@@ -249,8 +261,11 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         p.release_s[i] = static_cast<float>(t0);
         ++released;
         fate = Fate::drifting;
+        fresh[count] = true;
+        drifting[count++] = i;
+        continue;
       }
-      if (fate == Fate::drifting) drifting[count++] = i;
+      if (fate == Fate::drifting) fresh[count] = false, drifting[count++] = i;
     }
     particle_steps += static_cast<std::uint64_t>(count);
     for (int first = 0; first < count; first += kLanes) {
@@ -265,7 +280,22 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         b.source[l] = p.source[i];
         b.particle[l] = p.index[i];
       }
+      b.walk_cached = kept;
+      for (int l = 0; l < m; ++l) b.walk_cached = b.walk_cached && !fresh[first + l];
+      if (b.walk_cached) {
+        for (int l = 0; l < kLanes; ++l) {
+          const std::int64_t i = idx[l < m ? l : 0];
+          b.walk0[l] = walk_next[2 * i];
+          b.walk1[l] = walk_next[2 * i + 1];
+        }
+      }
       advance(g, plan, b);
+      if (keep_next) {
+        for (int l = 0; l < m; ++l) {
+          walk_next[2 * idx[l]] = b.walk0[l];
+          walk_next[2 * idx[l] + 1] = b.walk1[l];
+        }
+      }
 
       for (int l = 0; l < m; ++l) {
         max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
@@ -313,6 +343,8 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
     }
   }
 
+  p.walk_next_step = keep_next ? step + 1 : ParticleSet::kNoWalkCache;
+  p.walk_next_event = s.event;
   return StepTally{particle_steps, land_contacts, released, settled,
                    died,           stranded,      lost,     max_speed};
 }

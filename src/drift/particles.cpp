@@ -14,6 +14,8 @@ void ParticleSet::resize(std::size_t n) {
   reef.assign(n, -1);
   development_s.clear();
   food_log2_s.clear();
+  walk_next.clear();
+  walk_next_step = kNoWalkCache;
 }
 
 void ParticleSet::enable_development() {

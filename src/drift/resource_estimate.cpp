@@ -61,9 +61,11 @@ ResourceEstimate estimate_resources(const study::Study& study, const currents::C
 
   // Particles: the arrays of ParticleSet, the release plan they are filled
   // from (alive at the same time), one settled-now flag per particle, and the
-  // development arrays when temperature or food act on the larvae.
+  // development arrays when temperature or food act on the larvae, and the
+  // walk deviates the grid stepper keeps for the next step.
   e.bytes_per_particle = ParticleSet::bytes_per_particle + sizeof(reefs::ReleasePoint) + 1 +
-                         (environment ? 2 * kFloat : 0);
+                         (environment ? 2 * kFloat : 0) +
+                         (study.motion.kh_m2_s > 0 ? ParticleSet::walk_cache_bytes_per_particle : 0);
   const auto n_sources = static_cast<std::uint64_t>(sources.size());
   std::uint64_t all_particles = 0, trajectories = 0, samples = 0;
   for (const auto& event : study.spawning) {

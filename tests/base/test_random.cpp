@@ -74,3 +74,53 @@ TEST_CASE("normal2_batch gives normal2's deviates bit for bit") {
     }
   }
 }
+
+TEST_CASE("walk deviates: steps 2m and 2m+1 share one block; the batch form gives the same bits") {
+  const cullcast::CounterRandom rng(24681357ULL);
+  const cullcast::StreamId id{2, 4, 99};
+  // Even step: the block's first two words; odd step: its last two.
+  for (std::uint32_t m : {0u, 5u, 70000u}) {
+    const auto even = rng.walk_normal2(id, 2 * m), odd = rng.walk_normal2(id, 2 * m + 1);
+    CHECK(even == rng.normal2(id, m, cullcast::Draw::diffusion));
+    CHECK(odd != even);
+    CHECK(rng.walk_normal2(id, 2 * m + 2) != odd);
+  }
+  constexpr int kCount = 21;
+  std::uint32_t source[kCount], particle[kCount];
+  double z0[kCount], z1[kCount];
+  float w0[kCount], w1[kCount];
+  for (int l = 0; l < kCount; ++l) {
+    source[l] = static_cast<std::uint32_t>(l % 3);
+    particle[l] = static_cast<std::uint32_t>(50 + 11 * l);
+  }
+  for (std::uint32_t pair : {0u, 3u, 9999u}) {
+    rng.walk_normal4_batch(2, source, particle, kCount, pair, z0, z1, w0, w1);
+    for (int l = 0; l < kCount; ++l) {
+      const auto even = rng.walk_normal2({2, source[l], particle[l]}, 2 * pair);
+      const auto odd = rng.walk_normal2({2, source[l], particle[l]}, 2 * pair + 1);
+      CHECK(z0[l] == even[0]);
+      CHECK(z1[l] == even[1]);
+      CHECK(static_cast<double>(w0[l]) == odd[0]);
+      CHECK(static_cast<double>(w1[l]) == odd[1]);
+    }
+  }
+}
+
+TEST_CASE("walk deviates of odd and even steps are standard normal and uncorrelated") {
+  // The two pairs of one Philox block are independent (Salmon et al. 2011,
+  // SC11: every output word of Philox4x32-10 passes the Crush tests).
+  const cullcast::CounterRandom rng(777);
+  const int n = 100000;
+  double sum_e = 0, sum_o = 0, sq_e = 0, sq_o = 0, cross = 0;
+  for (int i = 0; i < n; ++i) {
+    const cullcast::StreamId id{1, 3, static_cast<std::uint32_t>(i)};
+    const double e = rng.walk_normal2(id, 40)[0], o = rng.walk_normal2(id, 41)[0];
+    sum_e += e, sum_o += o, sq_e += e * e, sq_o += o * o, cross += e * o;
+  }
+  // 5-sigma bounds on mean (1/sqrt(n)), variance (sqrt(2/n)) and correlation (1/sqrt(n)).
+  CHECK(std::fabs(sum_e / n) < 5 / std::sqrt(n));
+  CHECK(std::fabs(sum_o / n) < 5 / std::sqrt(n));
+  CHECK(std::fabs(sq_e / n - 1) < 5 * std::sqrt(2.0 / n));
+  CHECK(std::fabs(sq_o / n - 1) < 5 * std::sqrt(2.0 / n));
+  CHECK(std::fabs(cross / n) < 5 / std::sqrt(n));
+}

@@ -127,7 +127,7 @@ struct Outcome {
 
 Outcome run(bool grid, const fs::path& file, drift::ParticleSet p, drift::Scheme scheme, double kh,
             const reefs::ReefSet& reef_set, std::uint32_t steps, const drift::EarthModel& earth,
-            drift::VectorIsa isa = drift::GridStepper::instruction_sets().back()) {
+            drift::VectorIsa isa = drift::GridStepper::instruction_sets().back(), bool drop_kept_walk = false) {
   currents::CurrentField field = currents::CurrentField::open_files({file.string()});
   study::LarvaeSettings larvae;
   larvae.precompetent_days = 0.05;
@@ -149,6 +149,7 @@ Outcome run(bool grid, const fs::path& file, drift::ParticleSet p, drift::Scheme
   for (std::uint32_t k = 0; k < steps; ++k) {
     const double t0 = s.event_start_s + k * s.dt_s;
     field.prepare(t0, t0 + s.dt_s);
+    if (drop_kept_walk) p.walk_next_step = drift::ParticleSet::kNoWalkCache;  // every step draws afresh
     const auto tally = grid ? stepper.step(p, k, s, clock, lookup, rng, now)
                             : drift::drift_step(p, k, s, clock, earth, field, lookup, rng, now);
     out.steps += tally.particle_steps;
@@ -421,5 +422,33 @@ TEST_CASE("grid stepper: CULLCAST_VECTOR_ISA caps the instruction set and reject
   CHECK_THROWS_WITH(drift::GridStepper(field, earth),
                     Catch::Contains("CULLCAST_VECTOR_ISA") && Catch::Contains("expected baseline, avx2 or avx512"));
   ::unsetenv("CULLCAST_VECTOR_ISA");
+  fs::remove_all(dir);
+}
+
+TEST_CASE("grid stepper: walk deviates kept from the even step are the ones an odd step would draw") {
+  // Larvae join at steps 0, 1 and 2 (grid_of_particles), so odd steps mix
+  // kept deviates with fresh draws; dropping the kept ones every step must
+  // give the same bits.
+  const fs::path dir = fs::temp_directory_path() / "cullcast-grid-stepper-kept-walk";
+  const fs::path file = write_flow(dir, 81, 61, 150.0, -20.3, 0.01);
+  const auto reef_set = one_reef(150.42, -20.0, 0.02);
+  const auto earth = drift::EarthModel::sphere(6371000.0);
+  const auto start = grid_of_particles(150.05, -20.25, 0.5, 30);
+  const Outcome kept = run(true, file, start, drift::Scheme::rk4, 20.0, reef_set, 41, earth);
+  const Outcome fresh = run(true, file, start, drift::Scheme::rk4, 20.0, reef_set, 41, earth,
+                            drift::GridStepper::instruction_sets().back(), true);
+  REQUIRE(kept.steps == fresh.steps);
+  std::size_t differ = 0;
+  for (std::size_t i = 0; i < start.size(); ++i) {
+    differ += std::memcmp(&kept.p.lon[i], &fresh.p.lon[i], sizeof(double)) != 0 ||
+              std::memcmp(&kept.p.lat[i], &fresh.p.lat[i], sizeof(double)) != 0 ||
+              kept.p.fate[i] != fresh.p.fate[i];
+  }
+  CHECK(differ == 0);
+  // The walk moved them: the kept deviates were used, not zeros.
+  const Outcome still = run(true, file, start, drift::Scheme::rk4, 0.0, reef_set, 41, earth);
+  std::size_t moved = 0;
+  for (std::size_t i = 0; i < start.size(); ++i) moved += kept.p.lon[i] != still.p.lon[i];
+  CHECK(moved > start.size() / 2);
   fs::remove_all(dir);
 }

@@ -79,12 +79,43 @@ class CounterRandom {
     return {z0, z1};
   }
 
+  // The horizontal random walk's two deviates at `step`. Steps 2m and 2m+1
+  // share one Philox block (counter step m): its first two words give the
+  // even step's pair, its last two the odd step's. Still a pure function of
+  // (stream, step); a stepper that keeps the odd step's pair from the even
+  // step (GridStepper) runs the generator half as often.
+  std::array<double, 2> walk_normal2(const StreamId& id, std::uint32_t step) const noexcept {
+    const PhiloxCounter w = words(id, step >> 1, Draw::diffusion);
+    const bool odd = (step & 1u) != 0;
+    float z0, z1;
+    box_muller(odd ? w[2] : w[0], odd ? w[3] : w[1], z0, z1);
+    return {z0, z1};
+  }
+
   // normal2() for a batch of particles of one event: z0[l], z1[l] are the
   // deviates of particle (source[l], particle[l]), bit for bit the same as
   // normal2() gives. Written as plain loops over the batch so the compiler
   // can vectorise them (the drift's grid stepper calls this per batch).
   void normal2_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle, int count,
                      std::uint32_t step, Draw draw, double* z0, double* z1) const noexcept {
+    block_batch<false>(event, source, particle, count, step, draw, z0, z1, nullptr, nullptr);
+  }
+
+  // walk_normal2() of a batch for both steps of the pair 2m, 2m+1 (`pair` =
+  // m): even0/even1 the even step's deviates, odd0/odd1 the odd step's, bit
+  // for bit as walk_normal2() gives them.
+  void walk_normal4_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle,
+                          int count, std::uint32_t pair, double* even0, double* even1, float* odd0,
+                          float* odd1) const noexcept {
+    block_batch<true>(event, source, particle, count, pair, Draw::diffusion, even0, even1, odd0, odd1);
+  }
+
+ private:
+  // One Philox block per lane: deviates from its first two words into z0/z1
+  // and, when `Both`, from its last two into w0/w1.
+  template <bool Both>
+  void block_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle, int count,
+                   std::uint32_t step, Draw draw, double* z0, double* z1, float* w0, float* w1) const noexcept {
     const std::uint32_t tail = (event << 16) | (static_cast<std::uint32_t>(draw) & 0xFFFFu);
     std::uint32_t keys[10][2];  // the key schedule, the same for every lane
     keys[0][0] = key_[0], keys[0][1] = key_[1];
@@ -118,10 +149,10 @@ class CounterRandom {
       box_muller(c0, c1, a, b);
       z0[l] = a;
       z1[l] = b;
+      if constexpr (Both) box_muller(c2, c3, w0[l], w1[l]);
     }
   }
 
- private:
   // 52-bit uniform in (0, 1) from two words; never exactly 0 or 1. The
   // integer becomes a double through the 2^52 magic number (vectorisable).
   static double to_open_unit(std::uint32_t hi, std::uint32_t lo) noexcept {

@@ -68,13 +68,13 @@ void backward_step(ParticleSet& p, std::uint32_t step, double t0_model_s, double
     bool walked = false;
     if constexpr (Extras::active) {
       if (extras.kh_varies()) {
-        extras.walk_horizontal(flow, t0_model_s - dt_s, x, depth, metric, rng.normal2(id, step, Draw::diffusion),
+        extras.walk_horizontal(flow, t0_model_s - dt_s, x, depth, metric, rng.walk_normal2(id, step),
                                dt_s);
         walked = true;
       }
     }
     if (!walked && walk > 0) {
-      const auto z = rng.normal2(id, step, Draw::diffusion);
+      const auto z = rng.walk_normal2(id, step);
       double east, north;
       metric.degrees_per_metre(x[1], east, north);
       x[0] += z[0] * walk * east;

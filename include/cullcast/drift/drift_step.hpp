@@ -123,12 +123,12 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
     if constexpr (Extras::active) {
       if (extras.kh_varies()) {
         extras.walk_horizontal(flow, t0_model + s.dt_s, x, depth, metric,
-                               rng.normal2(id, step, Draw::diffusion), s.dt_s);
+                               rng.walk_normal2(id, step), s.dt_s);
         walked = true;
       }
     }
     if (!walked && walk > 0) {
-      const auto z = rng.normal2(id, step, Draw::diffusion);
+      const auto z = rng.walk_normal2(id, step);
       double east, north;
       metric.degrees_per_metre(x[1], east, north);
       x[0] += z[0] * walk * east;

@@ -1,6 +1,7 @@
 #pragma once
 // Particles of one spawning event as a structure of arrays: the hot loop
-// touches only the arrays it needs. 45 bytes per particle.
+// touches only the arrays it needs. 45 bytes per particle, 53 when the grid
+// stepper keeps walk deviates.
 #include <cstdint>
 #include <vector>
 
@@ -29,6 +30,16 @@ struct ParticleSet {
   // Only with temperature/food effects (enable_development()); empty otherwise.
   std::vector<float> development_s;  // development age, seconds at the reference temperature
   std::vector<float> food_log2_s;    // integral of log2(chlorophyll mg m-3) dt before competency, s
+  // The random walk's deviates of step `walk_next_step` of event
+  // `walk_next_event`, two per particle, kept by the grid stepper from the
+  // step before (CounterRandom::walk_normal2: steps 2m and 2m+1 share one
+  // generator block). Valid for particles drifting at that step's start;
+  // a pure function of each particle's stream, so copies stay valid and
+  // anything else (a loaded checkpoint) just leaves it unset.
+  static constexpr std::uint32_t kNoWalkCache = 0xFFFFFFFFu;
+  std::vector<float> walk_next;
+  std::uint32_t walk_next_step = kNoWalkCache;
+  std::uint32_t walk_next_event = 0;
 
   std::size_t size() const { return lon.size(); }
   void resize(std::size_t n);
@@ -36,6 +47,7 @@ struct ParticleSet {
   static constexpr std::size_t bytes_per_particle =
       2 * sizeof(double) + 2 * sizeof(float) + sizeof(double) + 2 * sizeof(std::uint32_t) +
       sizeof(Fate) + sizeof(std::int32_t);
+  static constexpr std::size_t walk_cache_bytes_per_particle = 2 * sizeof(float);
 };
 
 }  // namespace cullcast::drift
