@@ -69,6 +69,12 @@ case "${1:-}" in
     packages+=("${mpi_packages[@]}")
     install_missing
     configure_and_build "$build_dir" -DCULLCAST_MPI=ON
+    # ctest -j runs one test per processor: each program then gets one
+    # OpenMP thread (tests that compare thread counts set their own), and
+    # waiting threads sleep instead of spinning, so no test's threads fight
+    # another's for a processor (that made the long end-to-end tests up to
+    # five times slower).
+    export OMP_NUM_THREADS=1 OMP_WAIT_POLICY=passive
     (cd "$build_dir" && ctest --output-on-failure -j "$jobs" --timeout 900)
     if [[ "${CULLCAST_SKIP_SANITIZE:-0}" != 1 ]]; then
       echo "setup: fast tests again under AddressSanitizer + UndefinedBehaviorSanitizer"

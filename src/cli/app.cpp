@@ -4,6 +4,8 @@
 #include <cstdio>
 #include <iostream>
 
+#include <CLI/CLI.hpp>
+
 #include "cli_context.hpp"
 #include "distributed_drift.hpp"
 #include "cullcast/base/byte_size.hpp"

@@ -8,10 +8,14 @@
 #include <string>
 #include <vector>
 
-#include <CLI/CLI.hpp>
-
 #include "cullcast/base/output_lock.hpp"
 #include "cullcast/study/load_study.hpp"
+
+// Only the files that define commands include CLI11 (header-only, and as
+// costly to compile as the rest of a file): the others see a declaration.
+namespace CLI {
+class App;
+}
 
 namespace cullcast::cli {
 

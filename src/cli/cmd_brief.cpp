@@ -1,3 +1,5 @@
+#include <CLI/CLI.hpp>
+
 #include "brief_stage.hpp"
 #include "cli_context.hpp"
 #include "pipeline.hpp"

@@ -1,5 +1,7 @@
 #include <filesystem>
 
+#include <CLI/CLI.hpp>
+
 #include "cli_context.hpp"
 #include "cullcast/base/error.hpp"
 #include "cullcast/compare/run_comparison.hpp"

@@ -2,6 +2,8 @@
 #include <cstdio>
 #include <ostream>
 
+#include <CLI/CLI.hpp>
+
 #include "cli_context.hpp"
 #include "cullcast/compare/convergence.hpp"
 #include "cullcast/report/comparison_section.hpp"

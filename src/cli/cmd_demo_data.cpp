@@ -1,5 +1,7 @@
 #include <iostream>
 
+#include <CLI/CLI.hpp>
+
 #include "cli_context.hpp"
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/synthetic_currents.hpp"

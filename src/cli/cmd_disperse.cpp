@@ -1,7 +1,19 @@
+#include <CLI/CLI.hpp>
+
 #include "cli_context.hpp"
 #include "disperse_stage.hpp"
 
 namespace cullcast::cli {
+
+void add_checkpoint_options(CLI::App& cmd, CliContext& ctx) {
+  cmd.add_flag("--resume", ctx.resume,
+               "Continue an interrupted drift from <outputs>/drift.checkpoint (same scenario, same --set); "
+               "results are identical to an uninterrupted run");
+  cmd.add_option("--checkpoint-minutes", ctx.checkpoint_minutes,
+                 "Save the drift state every this many minutes of wall-clock time (0 = never)")
+      ->check(CLI::NonNegativeNumber)
+      ->capture_default_str();
+}
 
 void add_disperse_command(CLI::App& app, CliContext& ctx) {
   CLI::App* cmd =

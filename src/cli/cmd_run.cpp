@@ -1,3 +1,5 @@
+#include <CLI/CLI.hpp>
+
 #include "cli_context.hpp"
 #include "pipeline.hpp"
 

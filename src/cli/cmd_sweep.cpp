@@ -6,6 +6,8 @@
 #include <optional>
 #include <ostream>
 
+#include <CLI/CLI.hpp>
+
 #include "cli_context.hpp"
 #include "cullcast/base/atomic_file.hpp"
 #include "cullcast/base/error.hpp"
@@ -32,7 +34,7 @@ struct VariantResult {
   double seconds = 0;
 };
 
-std::string fixed(double v, int digits) {
+std::string fixed_or_dash(double v, int digits) {
   if (std::isnan(v)) return "-";
   char b[32];
   std::snprintf(b, sizeof b, "%.*f", digits, v);
@@ -68,13 +70,13 @@ void print_table(std::ostream& out, const std::vector<VariantResult>& rows, bool
         std::snprintf(b, sizeof b, "%-9s %-6s ", "-", "-");
       } else {
         std::snprintf(b, sizeof b, "%4d/%-4d %-6s ", r.significant, r.tested,
-                      fixed(r.tau, 2).c_str());
+                      fixed_or_dash(r.tau, 2).c_str());
       }
       versus = b;
     }
     std::snprintf(line, sizeof line, "  %-*s %9s %9s %6zu %9s %s%s\n", static_cast<int>(w),
-                  r.name.c_str(), fixed(r.settled_pct, 2).c_str(), sig3(r.lambda).c_str(), r.links,
-                  fixed(r.averted_pct, 1).c_str(), versus.c_str(), r.plan.c_str());
+                  r.name.c_str(), fixed_or_dash(r.settled_pct, 2).c_str(), sig3(r.lambda).c_str(), r.links,
+                  fixed_or_dash(r.averted_pct, 1).c_str(), versus.c_str(), r.plan.c_str());
     out << line;
   }
 }
@@ -203,13 +205,13 @@ void add_sweep_command(CLI::App& app, CliContext& ctx) {
       for (const auto& r : rows) {
         file.stream() << csv_quoted(r.name) << ',' << csv_quoted(r.overrides) << ','
                       << csv_quoted(r.shared_from) << ','
-                      << (std::isnan(r.settled_pct) ? "" : fixed(r.settled_pct, 4)) << ','
-                      << (std::isnan(r.lambda) ? "" : fixed(r.lambda, 6)) << ',' << r.links << ','
-                      << (std::isnan(r.averted_pct) ? "" : fixed(r.averted_pct, 3)) << ','
+                      << (std::isnan(r.settled_pct) ? "" : fixed_or_dash(r.settled_pct, 4)) << ','
+                      << (std::isnan(r.lambda) ? "" : fixed_or_dash(r.lambda, 6)) << ',' << r.links << ','
+                      << (std::isnan(r.averted_pct) ? "" : fixed_or_dash(r.averted_pct, 3)) << ','
                       << csv_quoted(r.plan) << ','
                       << (r.significant < 0 ? "" : std::to_string(r.significant)) << ','
                       << (r.significant < 0 ? "" : std::to_string(r.tested)) << ','
-                      << (std::isnan(r.tau) ? "" : fixed(r.tau, 4)) << ',' << fixed(r.seconds, 1)
+                      << (std::isnan(r.tau) ? "" : fixed_or_dash(r.tau, 4)) << ',' << fixed_or_dash(r.seconds, 1)
                       << "\n";
       }
       file.commit();

@@ -58,16 +58,6 @@ void print_summary(std::ostream& out, const drift::DriftSummary& s) {
 
 }  // namespace
 
-void add_checkpoint_options(CLI::App& cmd, CliContext& ctx) {
-  cmd.add_flag("--resume", ctx.resume,
-               "Continue an interrupted drift from <outputs>/drift.checkpoint (same scenario, same --set); "
-               "results are identical to an uninterrupted run");
-  cmd.add_option("--checkpoint-minutes", ctx.checkpoint_minutes,
-                 "Save the drift state every this many minutes of wall-clock time (0 = never)")
-      ->check(CLI::NonNegativeNumber)
-      ->capture_default_str();
-}
-
 std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, const study::Study& study) {
   DriftTeam team;  // one process, or the ranks of an MPI job (distributed_drift.hpp)
   const bool root = team.root();
