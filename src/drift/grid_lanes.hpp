@@ -12,7 +12,6 @@
 #include <bit>
 #include <cmath>
 #include <cstdint>
-#include <cstring>
 #if defined(__SSE2__)
 #include <immintrin.h>
 #endif
