@@ -33,16 +33,18 @@ struct Grid {
   const std::int32_t* wet;    // top level, 1 = wet, 0 = land (32-bit: loads the compiler can gather)
   const double* row_sin;      // sine and cosine of each row's latitude
   const double* row_cos;
-  double dlat;                // degrees between rows
+  double dlon, dlat;           // degrees between columns, rows
+  double period_cells;        // columns to 360 degrees (longitudes wrap by it)
   // Earth model (earth_model.hpp): e², 1/(a·rad), and the factors of the
   // sphere's and the ellipsoid's north metric.
   double e2, inv_a_rad, north_sphere, north_ellipsoid;
-  // Fine grids: the slices hold degrees/s; metres per degree at each row
-  // turn them back into speeds for the Courant check.
+  // Fine grids: the slices hold cells per second (the metric folded in per
+  // row); metres per cell at each row turn them back into speeds for the
+  // Courant check.
   bool folded;
-  const double* row_m_per_deg_lon;
-  const double* row_m_per_deg_lat;
-  const double* row_east;     // degrees per metre at each row (the inverses)
+  const float* row_m_per_cell_x;
+  const float* row_m_per_cell_y;
+  const double* row_east;     // degrees per metre at each row (the random walk)
   const double* row_north;
 };
 
@@ -88,6 +90,16 @@ inline double floor_by_rounding(double q) noexcept {
   return r - (r > q ? 1.0 : 0.0);
 }
 
+// Longitudes east of the grid's start, in [0, 360): a multiplication, not a
+// division (several times cheaper in vector units); the two corrections
+// catch the product's rounding next to multiples of 360.
+inline double wrap_degrees(double x) noexcept {
+  double wrapped = x - 360.0 * floor_by_rounding(x * (1.0 / 360.0));
+  wrapped = wrapped >= 360.0 ? wrapped - 360.0 : wrapped;
+  wrapped = wrapped < 0.0 ? wrapped + 360.0 : wrapped;
+  return ((x < 0.0) | (x >= 360.0)) ? wrapped : x;
+}
+
 // The cell holding a position: its south-west node (i, j) and the fractions
 // (fx, fy) across it, with (0, 0) standing in outside the grid (also for
 // NaN); `inside` says which. Conditions are combined with & and | (not &&
@@ -103,15 +115,7 @@ template <bool Wrap>
 inline void cell(const Grid& g, double lon, double lat, std::int32_t& i, std::int32_t& j, double& fx, double& fy,
                  bool& inside) noexcept {
   double x = lon - g.lon0;
-  if constexpr (Wrap) {
-    // Longitudes east of the grid's start, in [0, 360): a multiplication, not
-    // a division (several times cheaper in vector units); the two corrections
-    // catch the product's rounding next to multiples of 360.
-    double wrapped = x - 360.0 * floor_by_rounding(x * (1.0 / 360.0));
-    wrapped = wrapped >= 360.0 ? wrapped - 360.0 : wrapped;
-    wrapped = wrapped < 0.0 ? wrapped + 360.0 : wrapped;
-    x = ((x < 0.0) | (x >= 360.0)) ? wrapped : x;
-  }
+  if constexpr (Wrap) x = wrap_degrees(x);
   const double gx = x * g.inv_dlon, gy = (lat - g.lat0) * g.inv_dlat;
   inside = (gx >= 0.0) & (gx <= g.gx_max) & (gy >= 0.0) & (gy <= g.gy_max);
   const double cx = inside ? gx : 0.0, cy = inside ? gy : 0.0;
@@ -129,14 +133,6 @@ inline std::int32_t nearest_row(const Grid& g, double lat) noexcept {
   double r = (lat - g.lat0) * g.inv_dlat + 0.5;
   r = r >= 0.0 ? (r > g.gy_max ? g.gy_max : r) : 0.0;
   return static_cast<std::int32_t>(r);
-}
-
-// `value` where `keep`, else +0.0, as bit operations: a select the compiler
-// could turn back into a branch around the loads feeding `value`, which
-// would keep the loop from vectorising.
-inline double keep_or_zero(bool keep, double value) noexcept {
-  const std::uint64_t mask = 0 - static_cast<std::uint64_t>(keep);
-  return std::bit_cast<double>(std::bit_cast<std::uint64_t>(value) & mask);
 }
 
 // The (u, v) values at the four corners of every lane's cell, lane by lane
@@ -172,30 +168,126 @@ struct Corners {
 #endif
 }
 
-// Velocity of every lane at (xs, ys) from one stage slice, bilinear in space,
-// 0 outside the grid (as CurrentField::sample()).
+// Where the lanes are during a step, in grid units: the node (i, j) south-
+// west of the step's start plus single-precision offsets in cells (fx, fy).
+// The RK stages move only the offsets — a few cells at most — so their cell
+// arithmetic runs in single precision (twice the lanes per vector of
+// double) with a resolution of about 1e-7 of a cell, as fine as the float
+// currents and weights it feeds; positions themselves stay double.
+struct Origin {
+  alignas(64) std::int32_t i[kLanes], j[kLanes];
+  alignas(64) float fx[kLanes], fy[kLanes];
+};
+
+// Grid units beyond which a position is far off the grid either way; it
+// keeps every conversion to int32 (and the float floor below) in range.
+constexpr double kFarCells = 1.0e6;
+constexpr float kFarCellsF = 1.0e6f;
+
+// The same in grid units, `period` cells to 360 degrees.
+inline double wrap_cells(double gx, double period) noexcept {
+  double wrapped = gx - period * floor_by_rounding(gx * (1.0 / period));
+  wrapped = wrapped >= period ? wrapped - period : wrapped;
+  wrapped = wrapped < 0.0 ? wrapped + period : wrapped;
+  return ((gx < 0.0) | (gx >= period)) ? wrapped : gx;
+}
+
+// floor(q) in single precision for |q| < 2^22, by rounding through 1.5·2^23.
+// The correction is a bit mask, not a select: GCC 12 would otherwise carry
+// both candidates into later comparisons and stop vectorising.
+inline float floor_by_rounding(float q) noexcept {
+  const float r = (q + 0x1.8p23f) - 0x1.8p23f;
+  const std::uint32_t above = 0u - static_cast<std::uint32_t>(r > q);
+  return r - std::bit_cast<float>(above & std::bit_cast<std::uint32_t>(1.0f));
+}
+
+// Each lane's start in grid units (NaN or far off: a node far off the grid).
+// With `Wrap`, longitudes first come into [0, 360) east of the grid's start.
 template <bool Wrap>
-[[gnu::always_inline]] inline void velocity(const Grid& g, const float* uv, const double* __restrict xs,
-                                            const double* __restrict ys, double* __restrict u,
-                                            double* __restrict v) noexcept {
+[[gnu::always_inline]] inline void origin(const Grid& g, const double* __restrict lon, const double* __restrict lat,
+                                          Origin& o) noexcept {
+  const Grid local = g;
+  for (int l = 0; l < kLanes; ++l) {
+    double x = lon[l] - local.lon0;
+    if constexpr (Wrap) x = wrap_degrees(x);
+    double gx = x * local.inv_dlon, gy = (lat[l] - local.lat0) * local.inv_dlat;
+    gx = (gx >= -kFarCells) & (gx <= kFarCells) ? gx : -kFarCells;
+    gy = (gy >= -kFarCells) & (gy <= kFarCells) ? gy : -kFarCells;
+    const double bx = floor_by_rounding(gx), by = floor_by_rounding(gy);
+    o.i[l] = static_cast<std::int32_t>(bx);
+    o.j[l] = static_cast<std::int32_t>(by);
+    o.fx[l] = static_cast<float>(gx - bx);
+    o.fy[l] = static_cast<float>(gy - by);
+  }
+}
+
+// The cell along one axis of a lane `offset` cells from node `base`: its
+// first node `index` and the fraction `w` across it; returns 1 when the
+// position lies on the grid's `nodes` (the last node belongs to the cell
+// before it), else 0. Flags are 32-bit integers combined with & (not bools
+// and &&), so the loops calling this stay free of branches and vectorise.
+inline std::int32_t axis_cell(std::int32_t base, float offset, std::int32_t nodes, std::int32_t& index,
+                              float& w) noexcept {
+  offset = offset >= -kFarCellsF ? offset : -kFarCellsF;  // also NaN
+  offset = offset > kFarCellsF ? kFarCellsF : offset;
+  const float f = floor_by_rounding(offset);
+  const std::int32_t k = base + static_cast<std::int32_t>(f);
+  index = k < nodes - 2 ? k : nodes - 2;
+  // Across the last cell: 1 on the last node, more beyond it.
+  w = (offset - f) + static_cast<float>(k - index);
+  return static_cast<std::int32_t>(k >= 0) & static_cast<std::int32_t>(w <= 1.0f);
+}
+
+// The same along longitude on a batch that needs wrapping: the position
+// brought into [0, 360) degrees east of the grid's start in double
+// precision. A lane already there gets axis_cell()'s bits exactly (base +
+// offset, its floor and their difference are exact in double).
+inline std::int32_t axis_cell_wrapped(const Grid& g, std::int32_t base, float offset, std::int32_t& index,
+                                      float& w) noexcept {
+  offset = offset >= -kFarCellsF ? offset : -kFarCellsF;  // also NaN
+  offset = offset > kFarCellsF ? kFarCellsF : offset;
+  const double gx = wrap_cells(static_cast<double>(base) + static_cast<double>(offset), g.period_cells);
+  const double bx = floor_by_rounding(gx);
+  return axis_cell(static_cast<std::int32_t>(bx), static_cast<float>(gx - bx), g.nx, index, w);
+}
+
+// `value` where `keep`, else +0.0f, as bit operations: a select the compiler
+// could turn back into a branch around the loads feeding `value`, which
+// would keep the loop from vectorising.
+inline float keep_or_zero(bool keep, float value) noexcept {
+  const std::uint32_t mask = 0u - static_cast<std::uint32_t>(keep);
+  return std::bit_cast<float>(std::bit_cast<std::uint32_t>(value) & mask);
+}
+
+// Velocity of every lane at offsets (px, py) from its origin, from one
+// stage slice, bilinear in space, 0 off the grid (as CurrentField::sample()).
+template <bool Wrap>
+[[gnu::always_inline]] inline void velocity(const Grid& g, const float* uv, const Origin& o,
+                                            const float* __restrict px, const float* __restrict py,
+                                            float* __restrict u, float* __restrict v) noexcept {
   const Grid local = g;  // a copy the stores below cannot alias (keeps it in registers)
   const auto nx = static_cast<std::uint32_t>(local.nx);
   alignas(64) std::uint32_t south[kLanes], north[kLanes];  // offsets of the cell's rows in uv
   alignas(64) float wx[kLanes], wy[kLanes];                // fractions across the cell
-  alignas(64) std::uint32_t keep[kLanes];                  // 1 inside the grid
+  alignas(64) std::uint32_t keep[kLanes];                  // 1 on the grid
   for (int l = 0; l < kLanes; ++l) {
     std::int32_t i, j;
-    double fx, fy;
-    bool inside;
-    cell<Wrap>(local, xs[l], ys[l], i, j, fx, fy, inside);
+    float fx, fy;
+    std::int32_t in_x;
+    if constexpr (Wrap) {
+      in_x = axis_cell_wrapped(local, o.i[l], px[l], i, fx);
+    } else {
+      in_x = axis_cell(o.i[l], px[l], local.nx, i, fx);
+    }
+    const std::int32_t inside = in_x & axis_cell(o.j[l], py[l], local.ny, j, fy);
+    i = inside ? i : 0;
+    j = inside ? j : 0;
     // Unsigned 32-bit offsets: they widen to addresses without SSE4.1.
     south[l] = 2 * (static_cast<std::uint32_t>(j) * nx + static_cast<std::uint32_t>(i));
     north[l] = south[l] + 2 * nx;
-    // Weights and sums in single precision, as CurrentField::sample() does:
-    // the node values are floats, and twice the lanes fit a vector.
-    wx[l] = static_cast<float>(fx);
-    wy[l] = static_cast<float>(fy);
-    keep[l] = inside ? 1u : 0u;
+    wx[l] = inside ? fx : 0.0f;
+    wy[l] = inside ? fy : 0.0f;
+    keep[l] = static_cast<std::uint32_t>(inside);
   }
   Corners c;
   row_corners(uv, south, c.u00, c.v00, c.u10, c.v10);
@@ -205,8 +297,8 @@ template <bool Wrap>
     const float w00 = (1 - gx) * (1 - gy), w10 = gx * (1 - gy), w01 = (1 - gx) * gy, w11 = gx * gy;
     const float uu = w00 * c.u00[l] + w10 * c.u10[l] + w01 * c.u01[l] + w11 * c.u11[l];
     const float vv = w00 * c.v00[l] + w10 * c.v10[l] + w01 * c.v01[l] + w11 * c.v11[l];
-    u[l] = keep_or_zero(keep[l] != 0, static_cast<double>(uu));
-    v[l] = keep_or_zero(keep[l] != 0, static_cast<double>(vv));
+    u[l] = keep_or_zero(keep[l] != 0, uu);
+    v[l] = keep_or_zero(keep[l] != 0, vv);
   }
 }
 
@@ -258,48 +350,53 @@ template <bool Sphere>
   }
 }
 
-// dx/dt (degrees per second) of every lane at (xs, ys) from one stage slice;
-// keeps each lane's largest speed (m/s). On folded grids the speed uses the
-// metres per degree of the row where the lane started the step
-// (`start_m_lon`, `start_m_lat`), within about 1e-4 of the stage's own row:
-// plenty for a Courant check, and two table reads per step, not per stage.
-template <bool Wrap>
-[[gnu::always_inline]] inline void rates(const Grid& g, const float* uv, const double* __restrict xs,
-                                         const double* __restrict ys, double* __restrict ka, double* __restrict kb,
-                                         double* __restrict speed, const double* __restrict start_m_lon,
-                                         const double* __restrict start_m_lat) noexcept {
-  velocity<Wrap>(g, uv, xs, ys, ka, kb);
-  if (g.folded) {  // slices already in degrees per second
-    for (int l = 0; l < kLanes; ++l) {
-      const double sp = std::fabs(ka[l]) * start_m_lon[l] + std::fabs(kb[l]) * start_m_lat[l];
-      speed[l] = sp > speed[l] ? sp : speed[l];
-    }
-    return;
-  }
-  double east[kLanes], north[kLanes];
-  metric(g, ys, east, north);
-  for (int l = 0; l < kLanes; ++l) {
-    const double sp = std::fabs(ka[l]) + std::fabs(kb[l]);
-    speed[l] = sp > speed[l] ? sp : speed[l];
-    ka[l] *= east[l];
-    kb[l] *= north[l];
-  }
-}
-
-// The metric of the row nearest each lane's start: metres per degree (for
-// speeds) and degrees per metre (for the random walk).
+// The metric of the row nearest each lane's start: metres per cell (for
+// speeds on fine grids) and degrees per metre (for the random walk).
 struct StartRows {
-  double m_lon[kLanes], m_lat[kLanes];
-  double east[kLanes], north[kLanes];
+  alignas(64) float m_x[kLanes], m_y[kLanes];
+  alignas(64) double east[kLanes], north[kLanes];
 };
 [[gnu::always_inline]] inline void start_rows(const Grid& g, const Batch& b, StartRows& rows) noexcept {
   const Grid local = g;
   for (int l = 0; l < kLanes; ++l) {
     const auto j = static_cast<std::uint32_t>(nearest_row(local, b.lat0[l]));
-    rows.m_lon[l] = local.row_m_per_deg_lon[j];
-    rows.m_lat[l] = local.row_m_per_deg_lat[j];
+    rows.m_x[l] = local.row_m_per_cell_x[j];
+    rows.m_y[l] = local.row_m_per_cell_y[j];
     rows.east[l] = local.row_east[j];
     rows.north[l] = local.row_north[j];
+  }
+}
+
+// d(offset)/dt (cells per second) of every lane at offsets (px, py) from
+// one stage slice; keeps each lane's largest speed (m/s). Fine grids hold
+// cells per second in their slices already, and their speeds use the
+// metres per cell of the row where the lane started the step (within about
+// 1e-4 of the stage's own row: plenty for a Courant check). Coarse grids
+// hold m/s, turned into cells per second with the exact metric at the
+// stage's latitude.
+template <bool Wrap>
+[[gnu::always_inline]] inline void rates(const Grid& g, const float* uv, const Origin& o, const float* __restrict px,
+                                         const float* __restrict py, float* __restrict ka, float* __restrict kb,
+                                         float* __restrict speed, const StartRows& rows) noexcept {
+  velocity<Wrap>(g, uv, o, px, py, ka, kb);
+  if (g.folded) {
+    for (int l = 0; l < kLanes; ++l) {
+      const float sp = std::fabs(ka[l]) * rows.m_x[l] + std::fabs(kb[l]) * rows.m_y[l];
+      speed[l] = sp > speed[l] ? sp : speed[l];
+    }
+    return;
+  }
+  alignas(64) double lat[kLanes], east[kLanes], north[kLanes];
+  const Grid local = g;
+  for (int l = 0; l < kLanes; ++l) {
+    lat[l] = local.lat0 + (static_cast<double>(o.j[l]) + static_cast<double>(py[l])) * local.dlat;
+  }
+  metric(g, lat, east, north);
+  for (int l = 0; l < kLanes; ++l) {
+    const float sp = std::fabs(ka[l]) + std::fabs(kb[l]);
+    speed[l] = sp > speed[l] ? sp : speed[l];
+    ka[l] = static_cast<float>(static_cast<double>(ka[l]) * (east[l] * local.inv_dlon));
+    kb[l] = static_cast<float>(static_cast<double>(kb[l]) * (north[l] * local.inv_dlat));
   }
 }
 
@@ -329,41 +426,43 @@ template <bool Wrap>
 // each lane ended.
 template <bool Wrap>
 [[gnu::always_inline]] inline void advance_lanes(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
-  double ka[kLanes], kb[kLanes], sum_a[kLanes], sum_b[kLanes], x[kLanes], y[kLanes];
+  Origin o;
+  origin<Wrap>(g, b.lon0, b.lat0, o);
   StartRows rows;
-  const double* m_lon = rows.m_lon;
-  const double* m_lat = rows.m_lat;
-  for (int l = 0; l < kLanes; ++l) b.speed[l] = 0;
-  if (g.folded) start_rows(g, b, rows);
-  const double dt = plan.dt_s, h = 0.5 * plan.dt_s;
-  rates<Wrap>(g, plan.uv0, b.lon0, b.lat0, ka, kb, b.speed, m_lon, m_lat);
+  start_rows(g, b, rows);
+  alignas(64) float ka[kLanes], kb[kLanes], sum_a[kLanes], sum_b[kLanes], x[kLanes], y[kLanes], speed[kLanes];
+  for (int l = 0; l < kLanes; ++l) speed[l] = 0;
+  const double dt = plan.dt_s;
+  const float h = static_cast<float>(0.5 * dt), full = static_cast<float>(dt);
+  rates<Wrap>(g, plan.uv0, o, o.fx, o.fy, ka, kb, speed, rows);
+  // Cells per second to degrees over the step.
+  double to_lon = dt * g.dlon, to_lat = dt * g.dlat;
   if (plan.scheme == Scheme::rk4) {
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] = ka[l], sum_b[l] = kb[l];
-      x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
+      x[l] = o.fx[l] + h * ka[l], y[l] = o.fy[l] + h * kb[l];
     }
-    rates<Wrap>(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
+    rates<Wrap>(g, plan.mid, o, x, y, ka, kb, speed, rows);
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
-      x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
+      x[l] = o.fx[l] + h * ka[l], y[l] = o.fy[l] + h * kb[l];
     }
-    rates<Wrap>(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
+    rates<Wrap>(g, plan.mid, o, x, y, ka, kb, speed, rows);
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
-      x[l] = b.lon0[l] + dt * ka[l], y[l] = b.lat0[l] + dt * kb[l];
+      x[l] = o.fx[l] + full * ka[l], y[l] = o.fy[l] + full * kb[l];
     }
-    rates<Wrap>(g, plan.end, x, y, ka, kb, b.speed, m_lon, m_lat);
-    const double w = dt / 6.0;
-    for (int l = 0; l < kLanes; ++l) {
-      b.lon[l] = b.lon0[l] + w * (sum_a[l] + ka[l]);
-      b.lat[l] = b.lat0[l] + w * (sum_b[l] + kb[l]);
-    }
+    rates<Wrap>(g, plan.end, o, x, y, ka, kb, speed, rows);
+    for (int l = 0; l < kLanes; ++l) ka[l] = sum_a[l] + ka[l], kb[l] = sum_b[l] + kb[l];
+    to_lon /= 6, to_lat /= 6;
   } else if (plan.scheme == Scheme::rk2) {
-    for (int l = 0; l < kLanes; ++l) x[l] = b.lon0[l] + h * ka[l], y[l] = b.lat0[l] + h * kb[l];
-    rates<Wrap>(g, plan.mid, x, y, ka, kb, b.speed, m_lon, m_lat);
-    for (int l = 0; l < kLanes; ++l) b.lon[l] = b.lon0[l] + dt * ka[l], b.lat[l] = b.lat0[l] + dt * kb[l];
-  } else {
-    for (int l = 0; l < kLanes; ++l) b.lon[l] = b.lon0[l] + dt * ka[l], b.lat[l] = b.lat0[l] + dt * kb[l];
+    for (int l = 0; l < kLanes; ++l) x[l] = o.fx[l] + h * ka[l], y[l] = o.fy[l] + h * kb[l];
+    rates<Wrap>(g, plan.mid, o, x, y, ka, kb, speed, rows);
+  }
+  for (int l = 0; l < kLanes; ++l) {
+    b.lon[l] = b.lon0[l] + static_cast<double>(ka[l]) * to_lon;
+    b.lat[l] = b.lat0[l] + static_cast<double>(kb[l]) * to_lat;
+    b.speed[l] = static_cast<double>(speed[l]);
   }
   if (plan.walk_m > 0) {
     double z0[kLanes], z1[kLanes], east[kLanes], north[kLanes];

@@ -138,21 +138,20 @@ GridStepper::GridStepper(const currents::CurrentField& field, const EarthModel& 
   double worst = 0;
   row_east_.resize(row_sin_.size());
   row_north_.resize(row_sin_.size());
-  row_m_per_deg_lon_.resize(row_sin_.size());
-  row_m_per_deg_lat_.resize(row_sin_.size());
+  row_m_per_cell_x_.resize(row_sin_.size());
+  row_m_per_cell_y_.resize(row_sin_.size());
+  row_scale_.resize(2 * row_sin_.size());
   for (std::size_t j = 0; j < row_sin_.size(); ++j) {
     const double t = row_sin_[j] / row_cos_[j];
     worst = std::max(worst, drow * drow * (1 + 2 * t * t) / 8);
     earth.degrees_per_metre_at(row_sin_[j], row_cos_[j], row_east_[j], row_north_[j]);
-    row_m_per_deg_lon_[j] = 1.0 / row_east_[j];
-    row_m_per_deg_lat_[j] = 1.0 / row_north_[j];
+    // The kernel works in grid units (cells): m/s -> cells/s, and back.
+    row_m_per_cell_x_[j] = static_cast<float>(1.0 / (row_east_[j] * s.inv_dlon));
+    row_m_per_cell_y_[j] = static_cast<float>(1.0 / (row_north_[j] * s.inv_dlat));
+    row_scale_[2 * j] = static_cast<float>(row_east_[j] * s.inv_dlon);
+    row_scale_[2 * j + 1] = static_cast<float>(row_north_[j] * s.inv_dlat);
   }
   folded_ = worst <= 1e-7;
-  row_scale_.resize(2 * row_sin_.size());
-  for (std::size_t j = 0; j < row_sin_.size(); ++j) {
-    row_scale_[2 * j] = static_cast<float>(row_east_[j]);
-    row_scale_[2 * j + 1] = static_cast<float>(row_north_[j]);
-  }
 }
 
 StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
@@ -165,7 +164,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   // Stage times: every scheme uses the start, RK2 and RK4 the middle, RK4 the end.
   const int stages = s.scheme == Scheme::rk4 ? 3 : (s.scheme == Scheme::rk2 ? 2 : 1);
   const double stage_t[3] = {t0_model, t0_model + 0.5 * s.dt_s, t0_model + s.dt_s};
-  const float* scale = folded_ ? row_scale_.data() : nullptr;  // m/s -> degrees/s row by row
+  const float* scale = folded_ ? row_scale_.data() : nullptr;  // m/s -> cells/s row by row
   for (int k = 0; k < stages; ++k) {
     std::vector<float>& uv = stage_uv_[k];
     currents::CurrentField::SliceKey key;
@@ -191,9 +190,9 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   const lanes::Grid g{fs.lon_first, fs.lat_first, fs.inv_dlon, fs.inv_dlat,
                       static_cast<double>(fs.nx - 1), static_cast<double>(fs.ny - 1),
                       static_cast<std::int32_t>(fs.nx), static_cast<std::int32_t>(fs.ny), wet_.data(),
-                      row_sin_.data(), row_cos_.data(), 1.0 / fs.inv_dlat,
+                      row_sin_.data(), row_cos_.data(), 1.0 / fs.inv_dlon, 1.0 / fs.inv_dlat, 360.0 * fs.inv_dlon,
                       e2, 1.0 / (a * kRad), 1.0 / (a * kRad), 1.0 / (a * (1.0 - e2) * kRad),
-                      folded_, row_m_per_deg_lon_.data(), row_m_per_deg_lat_.data(), row_east_.data(),
+                      folded_, row_m_per_cell_x_.data(), row_m_per_cell_y_.data(), row_east_.data(),
                       row_north_.data()};
   lanes::StepPlan plan{stage_uv_[0].data(),
                        stages > 1 ? stage_uv_[1].data() : stage_uv_[0].data(),

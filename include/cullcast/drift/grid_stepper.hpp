@@ -7,7 +7,10 @@
 // faster because of three choices (docs/performance.md):
 //  - time (and depth) interpolation is done once per RK stage time on the
 //    grid (CurrentField::horizontal_slice), not once per particle and stage;
-//  - on fine grids the metres→degrees factor of each row is folded into
+//  - the RK stages work in grid units: a lane's start cell plus single-
+//    precision offsets (src/drift/grid_lanes.hpp, Origin), twice the lanes
+//    per vector of double; positions stay double;
+//  - on fine grids the metres→cells factor of each row is folded into
 //    those slices (bilinear interpolation of u/cos φ; the relative
 //    difference bound is checked, see the constructor); on coarse grids the
 //    sine and cosine of each row's latitude are tabulated, so the factor at
@@ -69,15 +72,15 @@ class GridStepper {
   std::vector<float> temperature_, chlorophyll_;  // scalar slices at t0 + dt/2 (CurrentField::scalar_slice)
   std::vector<std::int32_t> wet_;          // the top level's water mask, one word per node
   std::vector<double> row_sin_, row_cos_;  // sine and cosine of each row's latitude
-  // Fine grids: the slices hold degrees/s (the metric folded in per row).
+  // Fine grids: the slices hold cells/s (the metric folded in per row).
   bool folded_ = false;
-  std::vector<double> row_east_, row_north_;                   // degrees per metre at each row
-  std::vector<float> row_scale_;                               // the same, as (east, north) floats per row
+  std::vector<double> row_east_, row_north_;  // degrees per metre at each row
+  std::vector<float> row_scale_;              // cells per metre at each row, as (east, north) pairs
+  std::vector<float> row_m_per_cell_x_, row_m_per_cell_y_;  // metres per cell at each row (speeds)
   // The end slice of the last RK4 step and what it was computed from: the
   // next step's start slice when the key matches.
   bool end_reusable_ = false;
   currents::CurrentField::SliceKey end_key_;
-  std::vector<double> row_m_per_deg_lon_, row_m_per_deg_lat_;  // metres per degree (speeds)
 };
 
 }  // namespace cullcast::drift
