@@ -7,6 +7,9 @@
 #include <bit>
 #include <cmath>
 #include <cstdint>
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
 
 #include "cullcast/base/plain_math.hpp"
 
@@ -111,46 +114,87 @@ class CounterRandom {
   }
 
  private:
+  // Lanes whose Philox blocks are computed together (philox_lanes).
+  static constexpr int kBlockLanes = 16;
+
   // One Philox block per lane: deviates from its first two words into z0/z1
   // and, when `Both`, from its last two into w0/w1.
   template <bool Both>
   void block_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle, int count,
                    std::uint32_t step, Draw draw, double* z0, double* z1, float* w0, float* w1) const noexcept {
     const std::uint32_t tail = (event << 16) | (static_cast<std::uint32_t>(draw) & 0xFFFFu);
-    std::uint32_t keys[10][2];  // the key schedule, the same for every lane
-    keys[0][0] = key_[0], keys[0][1] = key_[1];
-    for (int r = 1; r < 10; ++r) keys[r][0] = keys[r - 1][0] + 0x9E3779B9u, keys[r][1] = keys[r - 1][1] + 0xBB67AE85u;
-#pragma omp simd
-    for (int l = 0; l < count; ++l) {
-      std::uint32_t c0 = particle[l], c1 = source[l], c2 = step, c3 = tail;
-      // The ten rounds of philox4x32_10(), written out (a loop inside the
-      // batch loop would keep the compiler from vectorising it).
-      auto round = [&](std::uint32_t k0, std::uint32_t k1) noexcept {
-        const std::uint64_t p0 = static_cast<std::uint64_t>(0xD2511F53u) * c0;
-        const std::uint64_t p1 = static_cast<std::uint64_t>(0xCD9E8D57u) * c2;
-        const auto hi0 = static_cast<std::uint32_t>(p0 >> 32), lo0 = static_cast<std::uint32_t>(p0);
-        const auto hi1 = static_cast<std::uint32_t>(p1 >> 32), lo1 = static_cast<std::uint32_t>(p1);
-        c0 = hi1 ^ c1 ^ k0;
-        c1 = lo1;
-        c2 = hi0 ^ c3 ^ k1;
-        c3 = lo0;
-      };
-      round(keys[0][0], keys[0][1]);
-      round(keys[1][0], keys[1][1]);
-      round(keys[2][0], keys[2][1]);
-      round(keys[3][0], keys[3][1]);
-      round(keys[4][0], keys[4][1]);
-      round(keys[5][0], keys[5][1]);
-      round(keys[6][0], keys[6][1]);
-      round(keys[7][0], keys[7][1]);
-      round(keys[8][0], keys[8][1]);
-      round(keys[9][0], keys[9][1]);
-      float a, b;
-      box_muller(c0, c1, a, b);
-      z0[l] = a;
-      z1[l] = b;
-      if constexpr (Both) box_muller(c2, c3, w0[l], w1[l]);
+    for (int first = 0; first < count; first += kBlockLanes) {
+      const int n = count - first < kBlockLanes ? count - first : kBlockLanes;
+      alignas(16) std::uint32_t c0[kBlockLanes], c1[kBlockLanes], c2[kBlockLanes], c3[kBlockLanes];
+      for (int l = 0; l < kBlockLanes; ++l) {  // spare lanes compute a block nobody reads
+        c0[l] = l < n ? particle[first + l] : 0u;
+        c1[l] = l < n ? source[first + l] : 0u;
+      }
+      philox_lanes(c0, c1, c2, c3, step, tail);
+      for (int l = 0; l < n; ++l) {
+        float a, b;
+        box_muller(c0[l], c1[l], a, b);
+        z0[first + l] = a;
+        z1[first + l] = b;
+        if constexpr (Both) box_muller(c2[l], c3[l], w0[first + l], w1[first + l]);
+      }
     }
+  }
+
+  // philox4x32_10() of kBlockLanes counters (c0[l], c1[l], step, tail) with
+  // this generator's key; the blocks replace the counters in c0..c3. With
+  // SSE2 (every x86-64), four lanes per instruction: 32 x 32 -> 64-bit
+  // products of the even lanes, then of the odd lanes shifted down, and the
+  // high and low halves put back in lane order with masks. The compiler's
+  // own vectorisation of the scalar rounds spends three times the
+  // instructions re-ordering lanes. Integer operations only: the same bits
+  // as philox4x32_10() on any processor.
+  void philox_lanes(std::uint32_t* c0, std::uint32_t* c1, std::uint32_t* c2, std::uint32_t* c3, std::uint32_t step,
+                    std::uint32_t tail) const noexcept {
+    constexpr std::uint32_t kMul0 = 0xD2511F53u, kMul1 = 0xCD9E8D57u;
+    constexpr std::uint32_t kWeyl0 = 0x9E3779B9u, kWeyl1 = 0xBB67AE85u;
+#if defined(__SSE2__)
+    constexpr int kGroups = kBlockLanes / 4;
+    const __m128i mul0 = _mm_set1_epi64x(kMul0), mul1 = _mm_set1_epi64x(kMul1);
+    const __m128i low = _mm_set1_epi64x(0xFFFFFFFFll);
+    __m128i a[kGroups], b[kGroups], c[kGroups], d[kGroups];
+    for (int g = 0; g < kGroups; ++g) {
+      a[g] = _mm_load_si128(reinterpret_cast<const __m128i*>(c0 + 4 * g));
+      b[g] = _mm_load_si128(reinterpret_cast<const __m128i*>(c1 + 4 * g));
+      c[g] = _mm_set1_epi32(static_cast<int>(step));
+      d[g] = _mm_set1_epi32(static_cast<int>(tail));
+    }
+    std::uint32_t k0 = key_[0], k1 = key_[1];
+    for (int round = 0; round < 10; ++round) {
+      const __m128i key0 = _mm_set1_epi32(static_cast<int>(k0)), key1 = _mm_set1_epi32(static_cast<int>(k1));
+      for (int g = 0; g < kGroups; ++g) {  // independent groups: their latencies overlap
+        const __m128i even0 = _mm_mul_epu32(a[g], mul0), odd0 = _mm_mul_epu32(_mm_srli_epi64(a[g], 32), mul0);
+        const __m128i even1 = _mm_mul_epu32(c[g], mul1), odd1 = _mm_mul_epu32(_mm_srli_epi64(c[g], 32), mul1);
+        const __m128i hi0 = _mm_or_si128(_mm_srli_epi64(even0, 32), _mm_andnot_si128(low, odd0));
+        const __m128i lo0 = _mm_or_si128(_mm_and_si128(even0, low), _mm_slli_epi64(odd0, 32));
+        const __m128i hi1 = _mm_or_si128(_mm_srli_epi64(even1, 32), _mm_andnot_si128(low, odd1));
+        const __m128i lo1 = _mm_or_si128(_mm_and_si128(even1, low), _mm_slli_epi64(odd1, 32));
+        a[g] = _mm_xor_si128(_mm_xor_si128(hi1, b[g]), key0);
+        b[g] = lo1;
+        c[g] = _mm_xor_si128(_mm_xor_si128(hi0, d[g]), key1);
+        d[g] = lo0;
+      }
+      k0 += kWeyl0;
+      k1 += kWeyl1;
+    }
+    for (int g = 0; g < kGroups; ++g) {
+      _mm_store_si128(reinterpret_cast<__m128i*>(c0 + 4 * g), a[g]);
+      _mm_store_si128(reinterpret_cast<__m128i*>(c1 + 4 * g), b[g]);
+      _mm_store_si128(reinterpret_cast<__m128i*>(c2 + 4 * g), c[g]);
+      _mm_store_si128(reinterpret_cast<__m128i*>(c3 + 4 * g), d[g]);
+    }
+#else
+    for (int l = 0; l < kBlockLanes; ++l) {
+      const PhiloxCounter w = philox4x32_10({c0[l], c1[l], step, tail}, key_);
+      c0[l] = w[0], c1[l] = w[1], c2[l] = w[2], c3[l] = w[3];
+    }
+    (void)kMul0, (void)kMul1, (void)kWeyl0, (void)kWeyl1;
+#endif
   }
 
   // 52-bit uniform in (0, 1) from two words; never exactly 0 or 1. The
