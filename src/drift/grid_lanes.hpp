@@ -203,21 +203,28 @@ inline float floor_by_rounding(float q) noexcept {
 
 // Each lane's start in grid units (NaN or far off: a node far off the grid).
 // With `Wrap`, longitudes first come into [0, 360) east of the grid's start.
+// The floor comes from truncating the position moved 2^20 cells east
+// (positive there): the fraction then keeps 2^-32 of a cell, far finer than
+// the single precision it goes on in.
 template <bool Wrap>
 [[gnu::always_inline]] inline void origin(const Grid& g, const double* __restrict lon, const double* __restrict lat,
                                           Origin& o) noexcept {
   const Grid local = g;
+  constexpr double kShift = 1048576.0;  // 2^20 > kFarCells
+  constexpr std::int32_t kShiftCells = 1048576;
   for (int l = 0; l < kLanes; ++l) {
     double x = lon[l] - local.lon0;
     if constexpr (Wrap) x = wrap_degrees(x);
     double gx = x * local.inv_dlon, gy = (lat[l] - local.lat0) * local.inv_dlat;
-    gx = (gx >= -kFarCells) & (gx <= kFarCells) ? gx : -kFarCells;
-    gy = (gy >= -kFarCells) & (gy <= kFarCells) ? gy : -kFarCells;
-    const double bx = floor_by_rounding(gx), by = floor_by_rounding(gy);
-    o.i[l] = static_cast<std::int32_t>(bx);
-    o.j[l] = static_cast<std::int32_t>(by);
-    o.fx[l] = static_cast<float>(gx - bx);
-    o.fy[l] = static_cast<float>(gy - by);
+    gx = gx > -kFarCells ? gx : -kFarCells;  // also NaN
+    gy = gy > -kFarCells ? gy : -kFarCells;
+    gx = (gx < kFarCells ? gx : kFarCells) + kShift;
+    gy = (gy < kFarCells ? gy : kFarCells) + kShift;
+    const std::int32_t ix = static_cast<std::int32_t>(gx), iy = static_cast<std::int32_t>(gy);
+    o.i[l] = ix - kShiftCells;
+    o.j[l] = iy - kShiftCells;
+    o.fx[l] = static_cast<float>(gx - static_cast<double>(ix));
+    o.fy[l] = static_cast<float>(gy - static_cast<double>(iy));
   }
 }
 
