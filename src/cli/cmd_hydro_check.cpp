@@ -1,29 +1,25 @@
+#include <CLI/CLI.hpp>
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
 #include <ostream>
 
-#include <CLI/CLI.hpp>
-
 #include "cli_context.hpp"
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/current_field.hpp"
+#include "number_text.hpp"
 
 namespace cullcast::cli {
 namespace {
 
-std::string decimals(double v, int digits) {
-  char b[64];
-  std::snprintf(b, sizeof b, "%.*f", digits, v);
-  return b;
-}
-
 std::string duration(double s) {
-  if (s >= 86400.0 && std::fmod(s, 3600.0) == 0 && s >= 2 * 86400.0) return decimals(s / 86400.0, 2) + " days";
-  if (s >= 3600.0) return decimals(s / 3600.0, s == std::floor(s / 3600.0) * 3600.0 ? 0 : 2) + " h";
-  if (s >= 60.0) return decimals(s / 60.0, 1) + " min";
-  return decimals(s, 1) + " s";
+  if (s >= 86400.0 && std::fmod(s, 3600.0) == 0 && s >= 2 * 86400.0)
+    return fixed_text(s / 86400.0, 2) + " days";
+  if (s >= 3600.0)
+    return fixed_text(s / 3600.0, s == std::floor(s / 3600.0) * 3600.0 ? 0 : 2) + " h";
+  if (s >= 60.0) return fixed_text(s / 60.0, 1) + " min";
+  return fixed_text(s, 1) + " s";
 }
 
 int hydro_check(CliContext& ctx, const std::vector<std::string>& inputs) {
@@ -49,13 +45,13 @@ int hydro_check(CliContext& ctx, const std::vector<std::string>& inputs) {
   out << "grid: " << (g.kind == currents::GridKind::regular ? "regular lon/lat" : "curvilinear (2-D lon/lat)") << ", "
       << g.nx << " x " << g.ny << " nodes (lon x lat)";
   out << ", " << (g.depths_m.empty() ? std::string("2-D (no depth axis)") : std::to_string(g.nz) + " depth levels") << "\n";
-  out << "extent: lon " << decimals(g.lon_min, 4) << " .. " << decimals(g.lon_max, 4) << " E, lat " << decimals(g.lat_min, 4)
-      << " .. " << decimals(g.lat_max, 4) << " N\n";
-  out << "resolution: " << decimals(g.min_spacing_m / 1000.0, 3) << " km smallest, " << decimals(g.mean_spacing_m / 1000.0, 3)
-      << " km typical node spacing\n";
+  out << "extent: lon " << fixed_text(g.lon_min, 4) << " .. " << fixed_text(g.lon_max, 4)
+      << " E, lat " << fixed_text(g.lat_min, 4) << " .. " << fixed_text(g.lat_max, 4) << " N\n";
+  out << "resolution: " << fixed_text(g.min_spacing_m / 1000.0, 3) << " km smallest, "
+      << fixed_text(g.mean_spacing_m / 1000.0, 3) << " km typical node spacing\n";
   if (!g.depths_m.empty()) {
     out << "depth levels (m, positive down):";
-    for (double d : g.depths_m) out << " " << decimals(d, 1);
+    for (double d : g.depths_m) out << " " << fixed_text(d, 1);
     out << "\n";
   }
   out << "time: " << field.format_time(field.time_begin_s()) << " .. " << field.format_time(field.time_end_s()) << " ("
@@ -70,7 +66,7 @@ int hydro_check(CliContext& ctx, const std::vector<std::string>& inputs) {
           << duration(gap.to_s - gap.from_s) << " without frames)\n";
     }
   }
-  out << "land: " << decimals(100.0 * g.land_fraction, 1) << "% of surface nodes masked\n";
+  out << "land: " << fixed_text(100.0 * g.land_fraction, 1) << "% of surface nodes masked\n";
   out.flush();
 
   // Speeds: one frame at a time; 1 mm/s histogram bins up to the 10 m/s limit.
@@ -94,11 +90,13 @@ int hydro_check(CliContext& ctx, const std::vector<std::string>& inputs) {
     below += histogram[b];
     if (static_cast<double>(below) >= 0.99 * static_cast<double>(values)) { p99 = (static_cast<double>(b) + 1) * kBin_m_s; break; }
   }
-  out << "speed: max " << decimals(max_speed, 3) << " m/s at " << field.format_time(max_time) << ", 99th percentile "
-      << decimals(p99, 3) << " m/s (" << field.frame_count() << " frames, " << values << " wet node values)\n";
+  out << "speed: max " << fixed_text(max_speed, 3) << " m/s at " << field.format_time(max_time)
+      << ", 99th percentile " << fixed_text(p99, 3) << " m/s (" << field.frame_count()
+      << " frames, " << values << " wet node values)\n";
   if (std::isfinite(courant)) {
-    out << "largest step with Courant number <= 1 (|u| dt/dx + |v| dt/dy at every wet node): " << decimals(courant, 0)
-        << " s (" << decimals(courant / 60.0, 1) << " min), limiting frame " << field.format_time(courant_time) << "\n";
+    out << "largest step with Courant number <= 1 (|u| dt/dx + |v| dt/dy at every wet node): "
+        << fixed_text(courant, 0) << " s (" << fixed_text(courant / 60.0, 1)
+        << " min), limiting frame " << field.format_time(courant_time) << "\n";
   } else {
     out << "largest step with Courant number <= 1: unlimited (no flow)\n";
   }

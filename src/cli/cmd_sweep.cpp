@@ -1,3 +1,4 @@
+#include <CLI/CLI.hpp>
 #include <algorithm>
 #include <chrono>
 #include <cmath>
@@ -6,8 +7,6 @@
 #include <optional>
 #include <ostream>
 
-#include <CLI/CLI.hpp>
-
 #include "cli_context.hpp"
 #include "cullcast/base/atomic_file.hpp"
 #include "cullcast/base/error.hpp"
@@ -15,6 +14,7 @@
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_run.hpp"
 #include "cullcast/study/sweep_plan.hpp"
+#include "number_text.hpp"
 #include "pipeline.hpp"
 #include "progress_display.hpp"
 
@@ -33,13 +33,6 @@ struct VariantResult {
   double tau = NAN;
   double seconds = 0;
 };
-
-std::string fixed_or_dash(double v, int digits) {
-  if (std::isnan(v)) return "-";
-  char b[32];
-  std::snprintf(b, sizeof b, "%.*f", digits, v);
-  return b;
-}
 
 std::string sig3(double v) {
   if (std::isnan(v)) return "-";
@@ -70,13 +63,14 @@ void print_table(std::ostream& out, const std::vector<VariantResult>& rows, bool
         std::snprintf(b, sizeof b, "%-9s %-6s ", "-", "-");
       } else {
         std::snprintf(b, sizeof b, "%4d/%-4d %-6s ", r.significant, r.tested,
-                      fixed_or_dash(r.tau, 2).c_str());
+                      fixed_text(r.tau, 2, "-").c_str());
       }
       versus = b;
     }
     std::snprintf(line, sizeof line, "  %-*s %9s %9s %6zu %9s %s%s\n", static_cast<int>(w),
-                  r.name.c_str(), fixed_or_dash(r.settled_pct, 2).c_str(), sig3(r.lambda).c_str(), r.links,
-                  fixed_or_dash(r.averted_pct, 1).c_str(), versus.c_str(), r.plan.c_str());
+                  r.name.c_str(), fixed_text(r.settled_pct, 2, "-").c_str(), sig3(r.lambda).c_str(),
+                  r.links, fixed_text(r.averted_pct, 1, "-").c_str(), versus.c_str(),
+                  r.plan.c_str());
     out << line;
   }
 }
@@ -204,15 +198,12 @@ void add_sweep_command(CLI::App& app, CliContext& ctx) {
              "kendall_tau_b_vs_baseline,seconds\n";
       for (const auto& r : rows) {
         file.stream() << csv_quoted(r.name) << ',' << csv_quoted(r.overrides) << ','
-                      << csv_quoted(r.shared_from) << ','
-                      << (std::isnan(r.settled_pct) ? "" : fixed_or_dash(r.settled_pct, 4)) << ','
-                      << (std::isnan(r.lambda) ? "" : fixed_or_dash(r.lambda, 6)) << ',' << r.links << ','
-                      << (std::isnan(r.averted_pct) ? "" : fixed_or_dash(r.averted_pct, 3)) << ','
-                      << csv_quoted(r.plan) << ','
+                      << csv_quoted(r.shared_from) << ',' << fixed_text(r.settled_pct, 4, "") << ','
+                      << fixed_text(r.lambda, 6, "") << ',' << r.links << ','
+                      << fixed_text(r.averted_pct, 3, "") << ',' << csv_quoted(r.plan) << ','
                       << (r.significant < 0 ? "" : std::to_string(r.significant)) << ','
                       << (r.significant < 0 ? "" : std::to_string(r.tested)) << ','
-                      << (std::isnan(r.tau) ? "" : fixed_or_dash(r.tau, 4)) << ',' << fixed_or_dash(r.seconds, 1)
-                      << "\n";
+                      << fixed_text(r.tau, 4, "") << ',' << fixed_text(r.seconds, 1, "-") << "\n";
       }
       file.commit();
       if (!ctx.quiet) {

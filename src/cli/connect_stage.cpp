@@ -3,31 +3,25 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdio>
-#include <optional>
 #include <numeric>
+#include <optional>
 #include <ostream>
 #include <sstream>
 
 #include "cullcast/base/error.hpp"
-#include "cullcast/network/stepping_stones.hpp"
 #include "cullcast/network/binomial_interval.hpp"
 #include "cullcast/network/connectivity_writer.hpp"
 #include "cullcast/network/origin_comparison.hpp"
 #include "cullcast/network/persistence.hpp"
+#include "cullcast/network/stepping_stones.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
 #include "cullcast/report/reef_layer_writer.hpp"
+#include "number_text.hpp"
 
 namespace cullcast::cli {
 namespace fs = std::filesystem;
 namespace {
-
-std::string fixed(double v, int digits) {
-  if (std::isnan(v)) return "n/a";
-  char b[48];
-  std::snprintf(b, sizeof b, "%.*f", digits, v);
-  return b;
-}
 
 std::string general(double v) {
   char b[48];
@@ -111,10 +105,13 @@ void print_summary(std::ostream& out, const network::Connectivity& c,
     lo = std::min(lo, r.self_recruitment);
     hi = std::max(hi, r.self_recruitment);
   }
-  out << "  self-recruitment: " << (lo <= hi ? fixed(lo, 3) + " .. " + fixed(hi, 3) : "no settlers") << "\n";
-  out << "  persistence eigenvalue: " << fixed(s.persistence_eigenvalue, 4) << " (lifetime reproduction "
-      << general(settings.lifetime_reproduction) << "; "
-      << (s.persistence_eigenvalue > 1 ? "the network can sustain itself" : "below 1: not self-sustaining");
+  out << "  self-recruitment: "
+      << (lo <= hi ? fixed_text(lo, 3, "n/a") + " .. " + fixed_text(hi, 3, "n/a") : "no settlers")
+      << "\n";
+  out << "  persistence eigenvalue: " << fixed_text(s.persistence_eigenvalue, 4, "n/a")
+      << " (lifetime reproduction " << general(settings.lifetime_reproduction) << "; "
+      << (s.persistence_eigenvalue > 1 ? "the network can sustain itself"
+                                       : "below 1: not self-sustaining");
   if (s.larval_eigenvalue > 0) {
     out << "; persistence needs lifetime reproduction > " << general(1.0 / s.larval_eigenvalue);
   }
@@ -263,15 +260,18 @@ ConnectSummary run_connect_stage(const CliContext& ctx, const study::Study& stud
       ctx.out << "  origins of settlers on " << a.sink_id << ":";
       for (std::size_t k = 0; k < a.origins.size() && k < 3; ++k) {
         const auto& o = a.origins[k];
-        ctx.out << (k ? ", " : " ") << c.source_ids[o.source] << " " << fixed(100 * o.share, 1)
-                << " % (events " << fixed(100 * o.event_min, 0) << "-" << fixed(100 * o.event_max, 0) << " %)";
+        ctx.out << (k ? ", " : " ") << c.source_ids[o.source] << " "
+                << fixed_text(100 * o.share, 1, "n/a") << " % (events "
+                << fixed_text(100 * o.event_min, 0, "n/a") << "-"
+                << fixed_text(100 * o.event_max, 0, "n/a") << " %)";
       }
       ctx.out << (a.origins.empty() ? " no larvae settled there\n" : "\n");
     }
     if (origins_compared) {
       ctx.out << "  origins of " << origins_compared->sink_id
               << ", matrix attribution vs backward drift: total variation distance "
-              << fixed(origins_compared->total_variation, 2) << ", " << origins_compared->top5_shared
+              << fixed_text(origins_compared->total_variation, 2, "n/a") << ", "
+              << origins_compared->top5_shared
               << " of the top five shared (origins_compared.csv)\n";
     }
   }

@@ -12,16 +12,11 @@
 #include "cullcast/network/link_ensemble.hpp"
 #include "cullcast/reefs/release_plan.hpp"
 #include "cullcast/reefs/surveys.hpp"
+#include "number_text.hpp"
 
 namespace cullcast::cli {
 namespace fs = std::filesystem;
 namespace {
-
-std::string fixed(double v, int digits) {
-  char b[48];
-  std::snprintf(b, sizeof b, "%.*f", digits, v);
-  return b;
-}
 
 constexpr const char* kCaution =
     "decision support with stated uncertainty; field work follows local dive-safety codes, permits "
@@ -110,23 +105,27 @@ PrioritiseSummary run_prioritise_stage(const CliContext& ctx, const study::Study
     auto& o = ctx.out;
     int priority = 0;
     for (double w : model.weights) priority += w > 0;
-    o << "Cull plan: budget " << fixed(settings.vessel_days, 1) << " vessel-days (effort "
-      << fixed(best.effort_days, 1) << ", travel " << fixed(best.travel_days, 2) << "), " << priority
-      << " priority reef(s), " << model.member_count() << " spawning event(s), horizon "
+    o << "Cull plan: budget " << fixed_text(settings.vessel_days, 1) << " vessel-days (effort "
+      << fixed_text(best.effort_days, 1) << ", travel " << fixed_text(best.travel_days, 2) << "), "
+      << priority << " priority reef(s), " << model.member_count() << " spawning event(s), horizon "
       << settings.horizon_seasons << " season(s), method " << best.method;
     if (best.method == "greedy") {
-      o << (best.guarantee_applies ? " (within " + fixed(100 * best.guarantee, 1) + " % of the optimum at worst)"
-                                   : " (no guarantee)");
+      o << (best.guarantee_applies
+                ? " (within " + fixed_text(100 * best.guarantee, 1) + " % of the optimum at worst)"
+                : " (no guarantee)");
     }
-    o << "\n  averts " << fixed(summary.averted_pct, 1)
-      << " % of the weighted settlement on priority reefs (mean connectivity); across events: expected "
-      << fixed(rob.baseline > 0 ? 100 * rob.expected_averted / rob.baseline : 0, 1) << " %, worst decile "
-      << fixed(rob.baseline > 0 ? 100 * rob.worst_decile_averted / rob.baseline : 0, 1) << " %\n";
+    o << "\n  averts " << fixed_text(summary.averted_pct, 1)
+      << " % of the weighted settlement on priority reefs (mean connectivity); across events: "
+         "expected "
+      << fixed_text(rob.baseline > 0 ? 100 * rob.expected_averted / rob.baseline : 0, 1)
+      << " %, worst decile "
+      << fixed_text(rob.baseline > 0 ? 100 * rob.worst_decile_averted / rob.baseline : 0, 1)
+      << " %\n";
     if (rob.ranking.empty()) o << "  no reef is worth culling within this budget\n";
     for (std::size_t k = 0; k < rob.ranking.size(); ++k) {
       const auto& r = rob.ranking[k];
       o << "  " << r.rank << ". " << explanations[k].text << " In the best plan of "
-        << fixed(100 * r.in_best_share, 0) << " % of spawning events"
+        << fixed_text(100 * r.in_best_share, 0) << " % of spawning events"
         << (r.one_night ? "; RANK DEPENDS ON ONE NIGHT" : "") << ".\n";
     }
     o << "  outputs: cull_ranking.csv cull_curve.csv in " << study.outputs.dir.string() << "\n";
