@@ -11,10 +11,12 @@
 #include "cullcast/base/error.hpp"
 #include "cullcast/base/system_resources.hpp"
 #include "cullcast/currents/current_field.hpp"
+#include "cullcast/drift/depth_behaviour.hpp"
 #include "cullcast/drift/resource_estimate.hpp"
 #include "cullcast/reefs/reef_set.hpp"
 #include "cullcast/reefs/release_plan.hpp"
 #include "distributed_drift.hpp"
+#include "number_text.hpp"
 #include "progress_display.hpp"
 
 namespace cullcast::cli {
@@ -72,12 +74,21 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
     }
     field.emplace(currents::CurrentField::open(study.currents));
     field->set_background_reads(team.processor_spare());  // counts the other ranks on this machine
+    // Larvae that stay near the surface need only the upper levels of 3-D currents.
+    const std::size_t levels = field->grid().nz;
+    const double deepest = drift::deepest_reach_m(study);
+    const int kept = field->limit_depth(deepest);
     reef_set.emplace(reefs::ReefSet::load(study.reefs));
     const auto sources = reefs::release_sources(*reef_set, study);
     if (!ctx.quiet && root) {
       ctx.out << "  " << study.currents.files.size() << " currents file(s), "
               << field->frame_count() << " frames; " << reef_set->size() << " reefs, "
               << sources.size() << " release sources\n";
+      if (static_cast<std::size_t>(kept) < levels) {
+        ctx.out << "  reading " << kept << " of " << levels << " depth levels, down to "
+                << fixed_text(field->grid().depths_m.back(), 1) << " m (larvae go no deeper than "
+                << fixed_text(deepest, 1) << " m)\n";
+      }
       if (team.size() > 1) ctx.out << "  " << team.describe(study, sources.size()) << "\n";
     }
     const std::string binding = team.binding_warning();

@@ -108,6 +108,7 @@ struct Block {
 struct Geometry {
   GridKind kind = GridKind::regular;
   std::ptrdiff_t nx = 0, ny = 0, nz = 1;
+  std::ptrdiff_t z_first = 0;  // first level read, in file order (limit_depth() keeps a range)
   bool has_depth_dim = false;
   bool flip_x = false, flip_y = false, flip_z = false;  // file order -> internal ascending order
   std::vector<double> lon, lat;      // regular: 1-D internal ascending (lon unwrapped)
@@ -220,7 +221,7 @@ struct CurrentField::Impl {
       NcVar var = nf.getVar(dec.name);
       std::vector<size_t> start{ref.index, 0, 0}, count{1, static_cast<size_t>(geo.ny), static_cast<size_t>(geo.nx)};
       if (geo.has_depth_dim) {
-        start.insert(start.begin() + 1, 0);
+        start.insert(start.begin() + 1, static_cast<size_t>(geo.z_first));
         count.insert(count.begin() + 1, static_cast<size_t>(geo.nz));
       }
       var.getVar(start, count, buffer.data());
@@ -966,6 +967,35 @@ double CurrentField::stretch_end_s(double t_s) const {
 const std::vector<std::string>& CurrentField::files() const { return impl_->file_paths; }
 const VariableNames& CurrentField::variables() const { return impl_->names; }
 std::string CurrentField::format_time(double t_s) const { return impl_->format(t_s); }
+
+int CurrentField::limit_depth(double deepest_m) {
+  Impl& m = *impl_;
+  Geometry& g = m.geo;
+  if (!g.has_depth_dim || g.nz <= 1 || !(deepest_m < kInf)) return static_cast<int>(g.nz);
+  std::ptrdiff_t keep = 1;
+  while (keep < g.nz && g.depth[static_cast<std::size_t>(keep - 1)] < deepest_m) ++keep;
+  if (keep == g.nz) return static_cast<int>(g.nz);
+  // Frames read so far hold every level: drop them (prepare() reads again).
+  m.discard_ahead();
+  m.blocks.clear();
+  m.hot_blocks.clear();
+  m.last = Frame{};
+  m.last_index = static_cast<std::size_t>(-1);
+  hot_.blocks = nullptr;
+  hot_.block_count = 0;
+  // Internal levels run from the surface down; a file listing them from the
+  // bottom up holds the kept ones at the end of its range.
+  if (g.flip_z) g.z_first += g.nz - keep;
+  g.nz = keep;
+  g.depth.resize(static_cast<std::size_t>(keep));
+  m.mask.resize(static_cast<std::size_t>(g.nx * g.ny * keep));
+  m.summary.nz = static_cast<std::size_t>(keep);
+  m.summary.depths_m = g.depth;
+  hot_.nz = keep;
+  hot_.mask = m.mask.data();
+  hot_.depth = g.depth.data();
+  return static_cast<int>(keep);
+}
 
 std::size_t CurrentField::frame_bytes() const {
   const Impl& m = *impl_;

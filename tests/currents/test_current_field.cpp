@@ -6,6 +6,7 @@
 #include <catch2/catch.hpp>
 
 #include <cmath>
+#include <limits>
 
 #include "cullcast/base/error.hpp"
 #include "cullcast/currents/current_field.hpp"
@@ -112,6 +113,58 @@ TEST_CASE("depth levels: trilinear, positive up or down, clamped", "[currents][g
     CHECK(f.sample(t, 150.2, -20.2, 30).u_m_s == Approx(0.2).margin(kTol_m_s));
     CHECK(f.sample(t, 150.2, -20.2, 80).u_m_s == Approx(0.0).margin(kTol_m_s));   // clamped to 50 m
     CHECK(f.sample(t, 150.2, -20.2, -3).u_m_s == Approx(0.5).margin(kTol_m_s));  // above the top level
+  }
+}
+
+TEST_CASE("limit_depth: the surface levels down to the deepest reach, same samples, smaller frames", "[currents][grid]") {
+  // Five levels listed from the surface down, and from the bottom up
+  // (positive up: the kept levels are the last of the file's range). Land
+  // only at 20 m and deeper: the kept mask must be the upper levels' one.
+  ScratchDir dir;
+  for (const std::string positive : {"down", "up"}) {
+    INFO("positive " << positive);
+    RegularSpec s;
+    s.lon = {150.0, 150.25, 150.5, 150.75};
+    s.lat = {-20.5, -20.25, -20.0};
+    s.time = {0, 1, 2};
+    const double sign = positive == "down" ? 1.0 : -1.0;
+    s.depth = positive == "down" ? std::vector<double>{0, 5, 10, 20, 50} : std::vector<double>{-50, -20, -10, -5, 0};
+    s.depth_positive = positive;
+    s.u = [sign](double t, double z, double, double lo) {
+      const double d = sign * z;
+      return 0.3 + 0.01 * d - 0.0002 * d * d + 0.2 * (lo - 150.0) + 0.05 * t;
+    };
+    s.v = [sign](double t, double z, double la, double) { return -0.1 + 0.004 * sign * z + 0.3 * (la + 20.5) - 0.02 * t; };
+    s.land = [sign](double z, double, double lo) { return sign * z >= 20 && lo > 150.6; };
+    const std::string file = ncgen(dir, "limit" + positive, regular_cdl(s));
+    auto full = CurrentField::open_files({file});
+    auto upper = CurrentField::open_files({file});
+    REQUIRE(full.limit_depth(std::numeric_limits<double>::infinity()) == 5);
+    REQUIRE(full.limit_depth(100.0) == 5);  // no level that deep: all of them
+    upper.prepare(upper.time_begin_s(), upper.time_end_s());  // frames read before the limit are dropped
+    REQUIRE(upper.limit_depth(7.0) == 3);                     // 0, 5 and 10 m: 10 m brackets 7 m
+    CHECK(upper.grid().nz == 3);
+    CHECK(upper.grid().depths_m == std::vector<double>{0, 5, 10});
+    const double t0 = full.time_begin_s(), t1 = full.time_end_s();
+    full.prepare(t0, t1);
+    upper.prepare(t0, t1);
+    CHECK(upper.frame_bytes() * 5 == full.frame_bytes() * 3);
+    std::size_t compared = 0;
+    for (double t = t0; t <= t1; t += (t1 - t0) / 4)
+      for (double z : {0.0, 2.5, 5.0, 7.0, 10.0})
+        for (double lon = 150.0; lon <= 150.75; lon += 0.0625)
+          for (double lat = -20.5; lat <= -20.0; lat += 0.0625) {
+            const FlowSample a = full.sample(t, lon, lat, z), b = upper.sample(t, lon, lat, z);
+            CHECK(a.u_m_s == b.u_m_s);
+            CHECK(a.v_m_s == b.v_m_s);
+            ++compared;
+          }
+    CHECK(compared == 5 * 5 * 13 * 9);
+    CHECK(upper.status(150.7, -20.2) == full.status(150.7, -20.2));
+    auto surface = CurrentField::open_files({file});
+    CHECK(surface.limit_depth(0.0) == 1);
+    surface.prepare(t0, t1);
+    CHECK(surface.sample(t0, 150.3, -20.3, 0.0).u_m_s == full.sample(t0, 150.3, -20.3, 0.0).u_m_s);
   }
 }
 

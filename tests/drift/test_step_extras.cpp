@@ -271,3 +271,24 @@ TEST_CASE("food: odds of completing development x8 per doubling up to 3 ug/L (Fa
   const double expected = 1.0 / (1.0 + std::exp(-(std::log(9.0) - 2 * std::log(8.0))));  // two halvings below 3
   CHECK(p.weight[0] == Approx(expected).epsilon(1e-5));
 }
+
+TEST_CASE("deepest reach: release depths, the band's bottom or the age table's; unbounded in 3-D") {
+  study::Study s;
+  s.spawning.resize(2);
+  s.spawning[0].depth_m = 2.0;
+  s.spawning[1].depth_m = 6.0;
+  s.motion.depth = "fixed";
+  CHECK(drift::deepest_reach_m(s) == 6.0);
+  s.backward.sink = "R";  // a backward run releases on the sink at its own depth
+  s.backward.depth_m = 9.0;
+  CHECK(drift::deepest_reach_m(s) == 9.0);
+  s.motion.depth = "band";
+  s.motion.band_bottom_m = 15.0;
+  CHECK(drift::deepest_reach_m(s) == 15.0);
+  s.motion.depth_by_age = {{0.0, 0.0, 5.0}, {10.0, 8.0, 22.0}};
+  CHECK(drift::deepest_reach_m(s) == 22.0);
+  s.motion.depth = "fixed";  // the table sets the depth in fixed mode too
+  CHECK(drift::deepest_reach_m(s) == 22.0);
+  s.motion.depth = "3d";
+  CHECK(std::isinf(drift::deepest_reach_m(s)));
+}

@@ -115,6 +115,14 @@ class CurrentField {
   // Bytes held by loaded frames right now (for the memory benchmark).
   std::size_t frame_bytes() const;
 
+  // Keeps only the depth levels from the surface down to the first at or
+  // below `deepest_m` (all of them when none is that deep, or for infinity):
+  // larvae that never go deeper need no others, and every frame shrinks by
+  // the levels left out. Values at kept levels, and so every sample down to
+  // `deepest_m`, are unchanged; grid() then describes the kept levels.
+  // Returns the number of levels kept. Frames already read are dropped.
+  int limit_depth(double deepest_m);
+
   // --- additions beyond the first contract -------------------------------
   const std::vector<TimeGap>& gaps() const;                 // holes in the time axis
   // The first gap whose open interval (from_s, to_s) overlaps [t0_s, t1_s], or

@@ -13,6 +13,7 @@
 // Depth in metres, positive down.
 #include <algorithm>
 #include <cstdint>
+#include <limits>
 #include <vector>
 
 #include "cullcast/study/study.hpp"
@@ -70,5 +71,21 @@ class DepthRule {
   std::vector<study::DepthStage> table_;
   double swim_m_s_ = 0.001;
 };
+
+// The deepest a larva of `study` can be, metres positive down: its release
+// depths and, where a band or an age table sets its depth, their deepest
+// edge (the walk reflects inside the band; a larva outside swims towards
+// it); infinity in full 3-D, where it may reach the sea floor. The drift
+// reads no current levels below the first at or under it
+// (CurrentField::limit_depth).
+inline double deepest_reach_m(const study::Study& study) {
+  const study::MotionSettings& m = study.motion;
+  if (m.depth == "3d") return std::numeric_limits<double>::infinity();
+  double deepest = study.backward.sink.empty() ? 0.0 : study.backward.depth_m;
+  for (const auto& event : study.spawning) deepest = std::max(deepest, event.depth_m);
+  if (m.depth == "band") deepest = std::max(deepest, m.band_bottom_m);
+  for (const auto& row : m.depth_by_age) deepest = std::max(deepest, row.bottom_m);
+  return deepest;
+}
 
 }  // namespace cullcast::drift
