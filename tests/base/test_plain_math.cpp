@@ -38,6 +38,27 @@ TEST_CASE("plain_log matches libm over the uniforms Box-Muller sees and beyond")
   CHECK(cullcast::plain_log(1.0) == 0.0);
 }
 
+TEST_CASE("plain_exp matches libm over the development and completion range and beyond") {
+  // Reference: glibc's exp (within 1 ulp on x86-64). Development rates take
+  // ln(Q10)/10 · ΔT (|x| < 3 for any sea temperature), the completion
+  // probability a logit (|x| < 250); the sweep covers [-700, 700].
+  double worst = 0;
+  for (int k = -700000; k <= 700000; ++k) {
+    const double x = k * 1e-3 + 1.3e-7 * (k % 7);
+    const double ref = std::exp(x);
+    worst = std::max(worst, std::fabs(cullcast::plain_exp(x) - ref) / ref);
+  }
+  for (double x : {0.0, 1e-300, -1e-300, 1e-12, 0.34657359027997264, -0.34657359027997264, 0.6931471805599453, 1.0,
+                   -1.0, 709.0 - 9.0, -700.0}) {
+    const double ref = std::exp(x);
+    worst = std::max(worst, std::fabs(cullcast::plain_exp(x) - ref) / ref);
+  }
+  INFO("worst relative error " << worst);
+  CHECK(worst < 4 * std::numeric_limits<double>::epsilon());
+  CHECK(cullcast::plain_exp(0.0) == 1.0);
+  CHECK(cullcast::plain_exp(std::log(2.0)) == Approx(2.0).epsilon(1e-15));
+}
+
 TEST_CASE("plain_sincos_turns matches libm on a whole turn") {
   constexpr double kTwoPi = 6.283185307179586476925;
   double worst = 0;

@@ -1,6 +1,7 @@
 #pragma once
-// Natural logarithm and sine/cosine written out in plain arithmetic, for the
-// random walk's Box–Muller transform. Why not <cmath>:
+// Natural logarithm, exponential and sine/cosine written out in plain
+// arithmetic, for the random walk's Box–Muller transform and the larvae's
+// temperature and food relations. Why not <cmath>:
 //  - inline and branch-free, so the compiler can keep them in registers and
 //    vectorise loops over particles (a libm call cannot be, and std::log may
 //    set errno);
@@ -40,6 +41,30 @@ inline double plain_log(double x) noexcept {
       1.0 + s2 * (1.0 / 3 + s2 * (1.0 / 5 + s2 * (1.0 / 7 + s2 * (1.0 / 9 + s2 * (1.0 / 11 + s2 * (1.0 / 13 +
       s2 * (1.0 / 15 + s2 * (1.0 / 17 + s2 * (1.0 / 19)))))))));
   return exponent * kLn2Hi + (exponent * kLn2Lo + 2.0 * s * series);
+}
+
+// e^x for |x| <= 700 (not for NaN): x = n·ln 2 + r with n the nearest
+// integer to x/ln 2 (rounded through 1.5·2^52) and |r| <= ln 2 / 2, then
+// e^x = 2^n · e^r with the Taylor series of e^r (A&S 4.2.1) to r^14/14!
+// (the next term is below 5e-18). Branch-free: the larval development rates
+// call it once per larva and step, several times cheaper than libm's exp.
+inline double plain_exp(double x) noexcept {
+  constexpr double kLog2e = 1.4426950408889634074;
+  constexpr double kLn2Hi = 6.93147180369123816490e-01;  // low 32 bits zero: n·kLn2Hi is exact
+  constexpr double kLn2Lo = 1.90821492927058770002e-10;
+  constexpr double kShift = 0x1.8p52;
+  const double shifted = x * kLog2e + kShift;
+  const double n = shifted - kShift;
+  const double r = (x - n * kLn2Hi) - n * kLn2Lo;
+  constexpr double c2 = 1.0 / 2, c3 = 1.0 / 6, c4 = 1.0 / 24, c5 = 1.0 / 120, c6 = 1.0 / 720, c7 = 1.0 / 5040,
+                   c8 = 1.0 / 40320, c9 = 1.0 / 362880, c10 = 1.0 / 3628800, c11 = 1.0 / 39916800,
+                   c12 = 1.0 / 479001600, c13 = 1.0 / 6227020800.0, c14 = 1.0 / 87178291200.0;
+  const double p =
+      1.0 + r * (1.0 + r * (c2 + r * (c3 + r * (c4 + r * (c5 + r * (c6 + r * (c7 + r * (c8 + r * (c9 + r * (c10 +
+      r * (c11 + r * (c12 + r * (c13 + r * c14)))))))))))));
+  // n (two's complement in the low bits of `shifted`) into the exponent field.
+  const std::uint64_t k = std::bit_cast<std::uint64_t>(shifted) - std::bit_cast<std::uint64_t>(kShift);
+  return p * std::bit_cast<double>((k + 1023) << 52);
 }
 
 // sin(2πu) and cos(2πu) for a fraction of a turn u in [0, 1].

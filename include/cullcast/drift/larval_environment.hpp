@@ -22,6 +22,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "cullcast/base/plain_math.hpp"
 #include "cullcast/study/study.hpp"
 
 namespace cullcast::drift {
@@ -44,25 +45,28 @@ class LarvalEnvironment {
   // Development-rate factor at temperature T (°C); 1 at T_ref and where T is unknown (NaN).
   double development_rate(double temperature_c) const noexcept {
     if (!temperature_on_ || std::isnan(temperature_c)) return 1.0;
-    return std::exp(ln_q10_per_c_ * (temperature_c - t_ref_c_));
+    // Clamped far beyond any sea temperature: plain_exp's range is ±700.
+    return plain_exp(std::clamp(ln_q10_per_c_ * (temperature_c - t_ref_c_), -600.0, 600.0));
   }
   // log2 of chlorophyll (mg m-3) for the path average; unknown (NaN) or
   // non-positive values count as saturating food (no penalty without data).
   double food_log2(double chl_mg_m3) const noexcept {
     if (!(chl_mg_m3 > 0)) return log2_sat_;
-    return std::min(std::log2(chl_mg_m3), log2_sat_);
+    // Below 1e-30 mg m-3 counts as 1e-30 (plain_log wants a normal number).
+    return std::min(plain_log(std::max(chl_mg_m3, 1e-30)) * kLog2e, log2_sat_);
   }
   // Probability of completing development given the mean log2 chlorophyll met.
   double completion_from_log2(double mean_log2_chl) const noexcept {
     if (!food_on_) return 1.0;
     const double logit = logit_sat_ + slope_ * (std::min(mean_log2_chl, log2_sat_) - log2_sat_);
-    return 1.0 / (1.0 + std::exp(-logit));
+    return 1.0 / (1.0 + plain_exp(std::clamp(-logit, -600.0, 600.0)));
   }
   double completion_probability(double chl_mg_m3) const noexcept {
     return completion_from_log2(food_log2(chl_mg_m3));
   }
 
  private:
+  static constexpr double kLog2e = 1.4426950408889634074;  // 1 / ln 2
   bool temperature_on_, food_on_;
   double t_ref_c_, ln_q10_per_c_, log2_sat_, slope_, logit_sat_;
 };
