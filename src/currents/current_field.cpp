@@ -975,14 +975,7 @@ int CurrentField::limit_depth(double deepest_m) {
   std::ptrdiff_t keep = 1;
   while (keep < g.nz && g.depth[static_cast<std::size_t>(keep - 1)] < deepest_m) ++keep;
   if (keep == g.nz) return static_cast<int>(g.nz);
-  // Frames read so far hold every level: drop them (prepare() reads again).
-  m.discard_ahead();
-  m.blocks.clear();
-  m.hot_blocks.clear();
-  m.last = Frame{};
-  m.last_index = static_cast<std::size_t>(-1);
-  hot_.blocks = nullptr;
-  hot_.block_count = 0;
+  drop_loaded_frames();  // they hold every level
   // Internal levels run from the surface down; a file listing them from the
   // bottom up holds the kept ones at the end of its range.
   if (g.flip_z) g.z_first += g.nz - keep;
@@ -1098,9 +1091,13 @@ void CurrentField::enable_scalar(ScalarKind kind) {
   }
   bool& flag = kind == ScalarKind::temperature ? m.use_temp : m.use_chl;
   if (flag) return;
-  m.discard_ahead();  // decoded without the scalar
+  drop_loaded_frames();  // decoded without the scalar
   flag = true;
-  // Loaded blocks lack the scalar: reload on the next prepare().
+}
+
+void CurrentField::drop_loaded_frames() {
+  Impl& m = *impl_;
+  m.discard_ahead();
   m.blocks.clear();
   m.hot_blocks.clear();
   m.last = Frame{};

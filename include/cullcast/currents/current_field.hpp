@@ -183,6 +183,9 @@ class CurrentField {
   CurrentField();
   std::unique_ptr<Impl> impl_;
   FlowSampler hot_;  // views into impl_'s loaded blocks; rebuilt by prepare()
+  // Forgets every decoded frame and block (the background decoder's too):
+  // the next prepare() reads them again, after a change to what they hold.
+  void drop_loaded_frames();
 };
 
 inline FlowSample CurrentField::sample(double t_s, double lon, double lat, double depth_m) const noexcept {
