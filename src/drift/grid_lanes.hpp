@@ -435,8 +435,8 @@ template <bool Wrap>
 [[gnu::always_inline]] inline void advance_lanes(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
   Origin o;
   origin<Wrap>(g, b.lon0, b.lat0, o);
-  StartRows rows;
-  start_rows(g, b, rows);
+  StartRows rows;  // fine grids only (speeds and the walk's metric)
+  if (g.folded) start_rows(g, b, rows);
   alignas(64) float ka[kLanes], kb[kLanes], sum_a[kLanes], sum_b[kLanes], x[kLanes], y[kLanes], speed[kLanes];
   for (int l = 0; l < kLanes; ++l) speed[l] = 0;
   const double dt = plan.dt_s;

@@ -151,9 +151,9 @@ class CounterRandom {
   // as philox4x32_10() on any processor.
   void philox_lanes(std::uint32_t* c0, std::uint32_t* c1, std::uint32_t* c2, std::uint32_t* c3, std::uint32_t step,
                     std::uint32_t tail) const noexcept {
-    constexpr std::uint32_t kMul0 = 0xD2511F53u, kMul1 = 0xCD9E8D57u;
-    constexpr std::uint32_t kWeyl0 = 0x9E3779B9u, kWeyl1 = 0xBB67AE85u;
 #if defined(__SSE2__)
+    constexpr std::uint32_t kMul0 = 0xD2511F53u, kMul1 = 0xCD9E8D57u;  // philox4x32_10()'s constants
+    constexpr std::uint32_t kWeyl0 = 0x9E3779B9u, kWeyl1 = 0xBB67AE85u;
     constexpr int kGroups = kBlockLanes / 4;
     const __m128i mul0 = _mm_set1_epi64x(kMul0), mul1 = _mm_set1_epi64x(kMul1);
     const __m128i low = _mm_set1_epi64x(0xFFFFFFFFll);
@@ -193,7 +193,6 @@ class CounterRandom {
       const PhiloxCounter w = philox4x32_10({c0[l], c1[l], step, tail}, key_);
       c0[l] = w[0], c1[l] = w[1], c2[l] = w[2], c3[l] = w[3];
     }
-    (void)kMul0, (void)kMul1, (void)kWeyl0, (void)kWeyl1;
 #endif
   }
 
