@@ -18,17 +18,19 @@ namespace cullcast {
 using PhiloxCounter = std::array<std::uint32_t, 4>;
 using PhiloxKey = std::array<std::uint32_t, 2>;
 
+// Philox4x32's round multipliers and key increments (the paper above).
+inline constexpr std::uint32_t kPhiloxMul0 = 0xD2511F53u, kPhiloxMul1 = 0xCD9E8D57u;
+inline constexpr std::uint32_t kPhiloxWeyl0 = 0x9E3779B9u, kPhiloxWeyl1 = 0xBB67AE85u;
+
 inline PhiloxCounter philox4x32_10(PhiloxCounter c, PhiloxKey k) noexcept {
-  constexpr std::uint32_t kMul0 = 0xD2511F53u, kMul1 = 0xCD9E8D57u;
-  constexpr std::uint32_t kWeyl0 = 0x9E3779B9u, kWeyl1 = 0xBB67AE85u;
   for (int round = 0; round < 10; ++round) {
-    const std::uint64_t p0 = static_cast<std::uint64_t>(kMul0) * c[0];
-    const std::uint64_t p1 = static_cast<std::uint64_t>(kMul1) * c[2];
+    const std::uint64_t p0 = static_cast<std::uint64_t>(kPhiloxMul0) * c[0];
+    const std::uint64_t p1 = static_cast<std::uint64_t>(kPhiloxMul1) * c[2];
     const auto hi0 = static_cast<std::uint32_t>(p0 >> 32), lo0 = static_cast<std::uint32_t>(p0);
     const auto hi1 = static_cast<std::uint32_t>(p1 >> 32), lo1 = static_cast<std::uint32_t>(p1);
     c = {hi1 ^ c[1] ^ k[0], lo1, hi0 ^ c[3] ^ k[1], lo0};
-    k[0] += kWeyl0;
-    k[1] += kWeyl1;
+    k[0] += kPhiloxWeyl0;
+    k[1] += kPhiloxWeyl1;
   }
   return c;
 }
@@ -152,10 +154,8 @@ class CounterRandom {
   void philox_lanes(std::uint32_t* c0, std::uint32_t* c1, std::uint32_t* c2, std::uint32_t* c3, std::uint32_t step,
                     std::uint32_t tail) const noexcept {
 #if defined(__SSE2__)
-    constexpr std::uint32_t kMul0 = 0xD2511F53u, kMul1 = 0xCD9E8D57u;  // philox4x32_10()'s constants
-    constexpr std::uint32_t kWeyl0 = 0x9E3779B9u, kWeyl1 = 0xBB67AE85u;
     constexpr int kGroups = kBlockLanes / 4;
-    const __m128i mul0 = _mm_set1_epi64x(kMul0), mul1 = _mm_set1_epi64x(kMul1);
+    const __m128i mul0 = _mm_set1_epi64x(kPhiloxMul0), mul1 = _mm_set1_epi64x(kPhiloxMul1);
     const __m128i low = _mm_set1_epi64x(0xFFFFFFFFll);
     __m128i a[kGroups], b[kGroups], c[kGroups], d[kGroups];
     for (int g = 0; g < kGroups; ++g) {
@@ -179,8 +179,8 @@ class CounterRandom {
         c[g] = _mm_xor_si128(_mm_xor_si128(hi0, d[g]), key1);
         d[g] = lo0;
       }
-      k0 += kWeyl0;
-      k1 += kWeyl1;
+      k0 += kPhiloxWeyl0;
+      k1 += kPhiloxWeyl1;
     }
     for (int g = 0; g < kGroups; ++g) {
       _mm_store_si128(reinterpret_cast<__m128i*>(c0 + 4 * g), a[g]);
