@@ -12,16 +12,15 @@
 #include <bit>
 #include <cmath>
 #include <cstdint>
-#if defined(__SSE2__)
-#include <immintrin.h>
-#endif
+#include <cstring>
+#include <utility>
 
 #include "cullcast/base/random.hpp"
 #include "cullcast/drift/integrator.hpp"
 
 namespace cullcast::drift::lanes {
 
-constexpr int kLanes = 16;
+constexpr int kLanes = 64;
 constexpr double kRad = 3.14159265358979323846 / 180.0;
 
 // The grid as the kernel needs it (copied out of the FlowSampler once per step).
@@ -143,29 +142,105 @@ struct Corners {
 };
 
 // One row of a cell is four contiguous floats (u, v of its west node, then
-// of its east node): one 128-bit load per row and lane, and a 4 x 4
-// transpose turns four lanes' loads into the arrays. The compiler's own
-// form of this loop fetches every node separately through emulated
-// gathers, with twice the loads and many more shuffles. Only loads and
-// shuffles: the values, and so the results, are the same bits either way.
+// of its east node): one 128-bit load per row and lane, and 4 x 4
+// transposes inside 128-bit blocks turn them into the four arrays. With
+// vectors of `Width` floats (4 SSE2, 8 AVX2, 16 AVX-512), lanes l, l + 4,
+// l + 8 ... of a group of Width lanes share a vector, one per 128-bit
+// block, so the transposes leave every array's lanes in order; each array
+// is then stored whole, and the loops that read it take it straight from
+// the store (narrower stores than the loads that read them stall the
+// processor until they reach the cache). The compiler's own form of this
+// loop fetches every node separately through emulated gathers, with twice
+// the loads and many more shuffles; the processor's gathers were no faster.
+// Only loads and shuffles: the values, and so the results, are the same
+// bits either way.
+namespace shuffle {
+// (GCC drops vector_size from an alias template whose size depends on its
+// parameter, hence one specialisation per width.)
+template <int Width>
+struct FloatsOf;
+template <>
+struct FloatsOf<4> {
+  using type = float __attribute__((vector_size(16)));
+};
+template <>
+struct FloatsOf<8> {
+  using type = float __attribute__((vector_size(32)));
+};
+template <>
+struct FloatsOf<16> {
+  using type = float __attribute__((vector_size(64)));
+};
+template <int Width>
+using Floats = typename FloatsOf<Width>::type;
+
+// Element i of the interleave of a and b (indices Width.. are b's) within
+// each 128-bit block: the low (Half = 0) or high (1) pair of a and b's
+// 32-bit (Pairs = false) or 64-bit (true) elements.
+template <int Width, bool Pairs, int Half>
+constexpr int interleave(int i) {
+  const int block = i / 4 * 4, k = i % 4;
+  const int from_b = Pairs ? k / 2 : k % 2;
+  const int within = Pairs ? 2 * Half + k % 2 : 2 * Half + k / 2;
+  return block + within + (from_b ? Width : 0);
+}
+// (Vectors wider than the baseline's registers go through references:
+// passed by value they would have an ABI of their own per instruction set.)
+template <int Width, bool Pairs, int Half, class V, std::size_t... I>
+[[gnu::always_inline]] inline void interleave(const V& a, const V& b, V& out, std::index_sequence<I...>) noexcept {
+  out = __builtin_shufflevector(a, b, interleave<Width, Pairs, Half>(static_cast<int>(I))...);
+}
+
+// Rows of lanes first, first + 4, ... (one per 128-bit block).
+template <int Width>
+[[gnu::always_inline]] inline void rows(const float* uv, const std::uint32_t* k, Floats<Width>& out) noexcept {
+  if constexpr (Width == 4) {
+    std::memcpy(&out, uv + k[0], sizeof out);
+  } else {
+    Floats<Width / 2> low, high;
+    rows<Width / 2>(uv, k, low);
+    rows<Width / 2>(uv, k + Width / 8, high);
+    if constexpr (Width == 8) {
+      out = __builtin_shufflevector(low, high, 0, 1, 2, 3, 4, 5, 6, 7);
+    } else {
+      out = __builtin_shufflevector(low, high, 0, 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 14, 15);
+    }
+  }
+}
+}  // namespace shuffle
+
+template <int Width>
 [[gnu::always_inline]] inline void row_corners(const float* uv, const std::uint32_t* k, float* west_u,
                                                float* west_v, float* east_u, float* east_v) noexcept {
-#if defined(__SSE2__)
-  for (int l = 0; l < kLanes; l += 4) {
-    __m128 a = _mm_loadu_ps(uv + k[l]), b = _mm_loadu_ps(uv + k[l + 1]);
-    __m128 c = _mm_loadu_ps(uv + k[l + 2]), d = _mm_loadu_ps(uv + k[l + 3]);
-    _MM_TRANSPOSE4_PS(a, b, c, d);
-    _mm_store_ps(west_u + l, a);
-    _mm_store_ps(west_v + l, b);
-    _mm_store_ps(east_u + l, c);
-    _mm_store_ps(east_v + l, d);
+  static_assert(Width == 4 || Width == 8 || Width == 16, "4, 8 or 16 floats per vector");
+  static_assert(kLanes % Width == 0);
+  using V = shuffle::Floats<Width>;
+  constexpr auto all = std::make_index_sequence<Width>{};
+  for (int first = 0; first < kLanes; first += Width) {
+    // Vector r holds lanes first + r, first + r + 4, ... (one per block).
+    alignas(64) std::uint32_t order[Width];
+    for (int r = 0; r < 4; ++r) {
+      for (int m = 0; m < Width / 4; ++m) order[r * (Width / 4) + m] = k[first + 4 * m + r];
+    }
+    V a, b, c, d;
+    shuffle::rows<Width>(uv, order, a);
+    shuffle::rows<Width>(uv, order + Width / 4, b);
+    shuffle::rows<Width>(uv, order + 2 * (Width / 4), c);
+    shuffle::rows<Width>(uv, order + 3 * (Width / 4), d);
+    V ab_lo, ab_hi, cd_lo, cd_hi, wu, wv, eu, ev;
+    shuffle::interleave<Width, false, 0>(a, b, ab_lo, all);
+    shuffle::interleave<Width, false, 1>(a, b, ab_hi, all);
+    shuffle::interleave<Width, false, 0>(c, d, cd_lo, all);
+    shuffle::interleave<Width, false, 1>(c, d, cd_hi, all);
+    shuffle::interleave<Width, true, 0>(ab_lo, cd_lo, wu, all);
+    shuffle::interleave<Width, true, 1>(ab_lo, cd_lo, wv, all);
+    shuffle::interleave<Width, true, 0>(ab_hi, cd_hi, eu, all);
+    shuffle::interleave<Width, true, 1>(ab_hi, cd_hi, ev, all);
+    std::memcpy(west_u + first, &wu, sizeof wu);
+    std::memcpy(west_v + first, &wv, sizeof wv);
+    std::memcpy(east_u + first, &eu, sizeof eu);
+    std::memcpy(east_v + first, &ev, sizeof ev);
   }
-#else
-  for (int l = 0; l < kLanes; ++l) {
-    const float* node = uv + k[l];
-    west_u[l] = node[0], west_v[l] = node[1], east_u[l] = node[2], east_v[l] = node[3];
-  }
-#endif
 }
 
 // Where the lanes are during a step, in grid units: the node (i, j) south-
@@ -268,7 +343,7 @@ inline float keep_or_zero(bool keep, float value) noexcept {
 
 // Velocity of every lane at offsets (px, py) from its origin, from one
 // stage slice, bilinear in space, 0 off the grid (as CurrentField::sample()).
-template <bool Wrap>
+template <bool Wrap, int Width>
 [[gnu::always_inline]] inline void velocity(const Grid& g, const float* uv, const Origin& o,
                                             const float* __restrict px, const float* __restrict py,
                                             float* __restrict u, float* __restrict v) noexcept {
@@ -297,8 +372,8 @@ template <bool Wrap>
     keep[l] = static_cast<std::uint32_t>(inside);
   }
   Corners c;
-  row_corners(uv, south, c.u00, c.v00, c.u10, c.v10);
-  row_corners(uv, north, c.u01, c.v01, c.u11, c.v11);
+  row_corners<Width>(uv, south, c.u00, c.v00, c.u10, c.v10);
+  row_corners<Width>(uv, north, c.u01, c.v01, c.u11, c.v11);
   for (int l = 0; l < kLanes; ++l) {
     const float gx = wx[l], gy = wy[l];
     const float w00 = (1 - gx) * (1 - gy), w10 = gx * (1 - gy), w01 = (1 - gx) * gy, w11 = gx * gy;
@@ -381,11 +456,11 @@ struct StartRows {
 // 1e-4 of the stage's own row: plenty for a Courant check). Coarse grids
 // hold m/s, turned into cells per second with the exact metric at the
 // stage's latitude.
-template <bool Wrap>
+template <bool Wrap, int Width>
 [[gnu::always_inline]] inline void rates(const Grid& g, const float* uv, const Origin& o, const float* __restrict px,
                                          const float* __restrict py, float* __restrict ka, float* __restrict kb,
                                          float* __restrict speed, const StartRows& rows) noexcept {
-  velocity<Wrap>(g, uv, o, px, py, ka, kb);
+  velocity<Wrap, Width>(g, uv, o, px, py, ka, kb);
   if (g.folded) {
     for (int l = 0; l < kLanes; ++l) {
       const float sp = std::fabs(ka[l]) * rows.m_x[l] + std::fabs(kb[l]) * rows.m_y[l];
@@ -431,7 +506,7 @@ template <bool Wrap>
 // The whole step of one batch: the scheme's stages, then the random walk
 // (Gaussian steps of walk_m per axis, the particle's own stream), then where
 // each lane ended.
-template <bool Wrap>
+template <bool Wrap, int Width>
 [[gnu::always_inline]] inline void advance_lanes(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
   Origin o;
   origin<Wrap>(g, b.lon0, b.lat0, o);
@@ -441,7 +516,7 @@ template <bool Wrap>
   for (int l = 0; l < kLanes; ++l) speed[l] = 0;
   const double dt = plan.dt_s;
   const float h = static_cast<float>(0.5 * dt), full = static_cast<float>(dt);
-  rates<Wrap>(g, plan.uv0, o, o.fx, o.fy, ka, kb, speed, rows);
+  rates<Wrap, Width>(g, plan.uv0, o, o.fx, o.fy, ka, kb, speed, rows);
   // Cells per second to degrees over the step.
   double to_lon = dt * g.dlon, to_lat = dt * g.dlat;
   if (plan.scheme == Scheme::rk4) {
@@ -449,22 +524,22 @@ template <bool Wrap>
       sum_a[l] = ka[l], sum_b[l] = kb[l];
       x[l] = o.fx[l] + h * ka[l], y[l] = o.fy[l] + h * kb[l];
     }
-    rates<Wrap>(g, plan.mid, o, x, y, ka, kb, speed, rows);
+    rates<Wrap, Width>(g, plan.mid, o, x, y, ka, kb, speed, rows);
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
       x[l] = o.fx[l] + h * ka[l], y[l] = o.fy[l] + h * kb[l];
     }
-    rates<Wrap>(g, plan.mid, o, x, y, ka, kb, speed, rows);
+    rates<Wrap, Width>(g, plan.mid, o, x, y, ka, kb, speed, rows);
     for (int l = 0; l < kLanes; ++l) {
       sum_a[l] += 2 * ka[l], sum_b[l] += 2 * kb[l];
       x[l] = o.fx[l] + full * ka[l], y[l] = o.fy[l] + full * kb[l];
     }
-    rates<Wrap>(g, plan.end, o, x, y, ka, kb, speed, rows);
+    rates<Wrap, Width>(g, plan.end, o, x, y, ka, kb, speed, rows);
     for (int l = 0; l < kLanes; ++l) ka[l] = sum_a[l] + ka[l], kb[l] = sum_b[l] + kb[l];
     to_lon /= 6, to_lat /= 6;
   } else if (plan.scheme == Scheme::rk2) {
     for (int l = 0; l < kLanes; ++l) x[l] = o.fx[l] + h * ka[l], y[l] = o.fy[l] + h * kb[l];
-    rates<Wrap>(g, plan.mid, o, x, y, ka, kb, speed, rows);
+    rates<Wrap, Width>(g, plan.mid, o, x, y, ka, kb, speed, rows);
   }
   for (int l = 0; l < kLanes; ++l) {
     b.lon[l] = b.lon0[l] + static_cast<double>(ka[l]) * to_lon;
@@ -513,11 +588,14 @@ template <bool Wrap>
   return far;
 }
 
+// `Width`: floats per vector register of the instruction set the caller is
+// compiled for (4 SSE2, 8 AVX2, 16 AVX-512; see row_corners).
+template <int Width>
 [[gnu::always_inline]] inline void advance(const Grid& g, const StepPlan& plan, Batch& b) noexcept {
   if (wrap_needed(g, b)) {
-    advance_lanes<true>(g, plan, b);
+    advance_lanes<true, Width>(g, plan, b);
   } else {
-    advance_lanes<false>(g, plan, b);
+    advance_lanes<false, Width>(g, plan, b);
   }
 }
 

@@ -18,17 +18,17 @@ using lanes::kRad;
 // The kernel for each instruction set. `flatten` inlines everything it calls
 // (the random numbers included), so each copy is compiled for its own target.
 [[gnu::flatten]] void advance_baseline(const lanes::Grid& g, const lanes::StepPlan& plan, lanes::Batch& b) noexcept {
-  lanes::advance(g, plan, b);
+  lanes::advance<4>(g, plan, b);
 }
 #if defined(__x86_64__)
 [[gnu::flatten, gnu::target("arch=x86-64-v3")]] void advance_avx2(const lanes::Grid& g, const lanes::StepPlan& plan,
                                                                     lanes::Batch& b) noexcept {
-  lanes::advance(g, plan, b);
+  lanes::advance<8>(g, plan, b);
 }
 [[gnu::flatten, gnu::target("arch=x86-64-v4")]] void advance_avx512(const lanes::Grid& g,
                                                                       const lanes::StepPlan& plan,
                                                                       lanes::Batch& b) noexcept {
-  lanes::advance(g, plan, b);
+  lanes::advance<16>(g, plan, b);
 }
 #endif
 
@@ -239,7 +239,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
   // stay full when larvae have settled, died or left here and there.
   // Per-particle results depend neither on the batching nor on the thread
   // count nor on the instruction set.
-  constexpr std::int64_t kChunk = 512;
+  constexpr std::int64_t kChunk = 1024;
   const std::int64_t chunks = (n + kChunk - 1) / kChunk;
 
   // Chunks handed out as threads finish: finished larvae cluster along the
