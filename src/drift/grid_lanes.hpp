@@ -29,7 +29,7 @@ struct Grid {
   double inv_dlon, inv_dlat;  // nodes per degree
   double gx_max, gy_max;      // last node index, as doubles
   std::int32_t nx, ny;        // nodes (2·nx·ny < 2^31: GridStepper::applies)
-  const std::int32_t* wet;    // top level, 1 = wet, 0 = land (32-bit: loads the compiler can gather)
+  const std::int32_t* wet;    // top level: 0 land, 1 water, 2 water near a reef (32-bit: loads the compiler can gather)
   const double* row_sin;      // sine and cosine of each row's latitude
   const double* row_cos;
   double dlon, dlat;           // degrees between columns, rows
@@ -59,8 +59,10 @@ struct StepPlan {
   std::uint32_t event, step;
 };
 
-// Where a lane ended its step (CurrentField::status's rule: nearest node's mask).
-enum Where : std::int32_t { kWater = 0, kLand = 1, kOutside = 2 };
+// Where a lane ended its step (CurrentField::status's rule: nearest node's
+// mask). kNearReef is water whose node's cell may hold a reef: elsewhere the
+// reef look-up is sure to find none.
+enum Where : std::int32_t { kWater = 0, kLand = 1, kOutside = 2, kNearReef = 3 };
 
 // One batch. Lanes at or past the batch's count repeat lane 0 (the kernel
 // always runs the full width; their results are ignored).
@@ -498,7 +500,7 @@ template <bool Wrap>
     const std::int32_t in = i + (fx > 0.5 ? 1 : 0);  // the nearest node
     const std::int32_t jn = j + (fy > 0.5 ? 1 : 0);
     const std::int32_t wet = local.wet[static_cast<std::uint32_t>(jn) * nx + static_cast<std::uint32_t>(in)];
-    const std::int32_t on_grid = wet != 0 ? kWater : kLand;
+    const std::int32_t on_grid = wet == 0 ? kLand : (wet == 1 ? kWater : kNearReef);
     out[l] = inside ? on_grid : kOutside;
   }
 }

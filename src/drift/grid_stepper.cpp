@@ -47,6 +47,11 @@ struct SlicedScalars {
   }
 };
 
+// A reef look-up over open water.
+struct OpenWater {
+  int reef_at(double, double) const noexcept { return -1; }
+};
+
 using AdvanceFn = void (*)(const lanes::Grid&, const lanes::StepPlan&, lanes::Batch&) noexcept;
 
 AdvanceFn kernel_for(VectorIsa isa) {
@@ -154,6 +159,28 @@ GridStepper::GridStepper(const currents::CurrentField& field, const EarthModel& 
   folded_ = worst <= 1e-7;
 }
 
+void GridStepper::mark_reef_nodes(const reefs::ReefLookup& reefs) {
+  reef_serial_ = reefs.serial();
+  const currents::FlowSampler& s = field_.sampler();
+  const double dlon = 1.0 / s.inv_dlon, dlat = 1.0 / s.inv_dlat;
+  for (std::ptrdiff_t j = 0; j < s.ny; ++j) {
+    const double lat = s.lat_first + static_cast<double>(j) * dlat;
+    for (std::ptrdiff_t i = 0; i < s.nx; ++i) {
+      std::int32_t& node = wet_[static_cast<std::size_t>(j * s.nx + i)];
+      if (node == 0) continue;
+      // A cell's width around the node: more than the positions whose
+      // nearest node it is (half a cell either way). Reefs may be given 360
+      // degrees east or west of the currents.
+      const double lon = s.lon_first + static_cast<double>(i) * dlon;
+      bool near = false;
+      for (double shift : {0.0, -360.0, 360.0}) {
+        near = near || reefs.may_hold_reef(lon + shift - dlon, lon + shift + dlon, lat - dlat, lat + dlat);
+      }
+      node = near ? 2 : 1;
+    }
+  }
+}
+
 StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
                             const reefs::ReefLookup& reefs, const CounterRandom& rng,
                             std::vector<std::uint8_t>& settled_now, const LarvalEnvironment& environment) {
@@ -203,6 +230,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
                        &rng,
                        s.event,
                        step};
+  if (reefs.serial() != reef_serial_) mark_reef_nodes(reefs);
   const AdvanceFn advance = kernel_for(isa_);
   const double settle_p = clock.settle_probability(s.dt_s);
   const double constant_survive = clock.step_survival(0.0, s.dt_s);
@@ -333,7 +361,12 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
           }
         }
         const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
-        switch (end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, reefs, rng)) {
+        // Open water (no reef near the node's cell): the look-up would say none.
+        const StepEnd end =
+            b.where[l] == lanes::kWater
+                ? end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, OpenWater{}, rng)
+                : end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, reefs, rng);
+        switch (end) {
           case StepEnd::died: ++died; break;
           case StepEnd::settled: settled_now[i] = 1; ++settled; break;
           case StepEnd::drifting: break;

@@ -1,6 +1,7 @@
 #include "cullcast/reefs/reef_lookup.hpp"
 
 #include <algorithm>
+#include <atomic>
 #include <cmath>
 #include <limits>
 
@@ -28,6 +29,8 @@ void for_each_edge(const Reef& reef, F&& f) {
 }  // namespace
 
 ReefLookup::ReefLookup(const ReefSet& reefs, double buffer_m) : buffer_m_(std::max(0.0, buffer_m)) {
+  static std::atomic<std::uint64_t> built{0};
+  serial_ = ++built;
   const auto& all = reefs.reefs();
   if (all.empty()) return;
 
@@ -253,6 +256,28 @@ int ReefLookup::from_candidates(std::int32_t code, double lon, double lat, int r
     if ((entry & 1) == 0 || member(reef, lon, lat, row)) return reef;
   }
   return -1;
+}
+
+bool ReefLookup::may_hold_reef(double lon_min, double lon_max, double lat_min, double lat_max) const noexcept {
+  if (occupied_.empty()) return false;
+  // The same arithmetic as reef_at(), which is monotonic in lon and lat, so
+  // every point of the box maps into [fx0, fx1] x [fy0, fy1].
+  const double fx0 = (lon_min - lon0_) * inv_dlon_, fx1 = (lon_max - lon0_) * inv_dlon_;
+  const double fy0 = (lat_min - lat0_) * inv_dlat_, fy1 = (lat_max - lat0_) * inv_dlat_;
+  if (std::isnan(fx0) || std::isnan(fx1) || std::isnan(fy0) || std::isnan(fy1)) return true;  // no claim
+  if (fx1 < 0 || fy1 < 0 || fx0 >= nx_ || fy0 >= ny_) return false;  // reef_at() is -1 off the raster
+  const int block_ny = static_cast<int>(occupied_.size() / static_cast<std::size_t>(block_nx_));
+  auto block = [](double f, int cells) { return static_cast<int>(std::clamp(f, 0.0, cells - 1.0)) / kBlock; };
+  const int bx0 = std::max(0, block(fx0, nx_) - 1), bx1 = std::min(block_nx_ - 1, block(fx1, nx_) + 1);
+  const int by0 = std::max(0, block(fy0, ny_) - 1), by1 = std::min(block_ny - 1, block(fy1, ny_) + 1);
+  for (int by = by0; by <= by1; ++by) {
+    for (int bx = bx0; bx <= bx1; ++bx) {
+      if (occupied_[static_cast<std::size_t>(by) * static_cast<std::size_t>(block_nx_) + static_cast<std::size_t>(bx)]) {
+        return true;
+      }
+    }
+  }
+  return false;
 }
 
 std::size_t ReefLookup::edge_cell_count() const noexcept {

@@ -310,6 +310,30 @@ TEST_CASE("grid stepper: temperature- and food-dependent larvae as in the generi
   fs::remove_all(dir);
 }
 
+TEST_CASE("grid stepper: reefs and larvae numbered 360 degrees west of the currents settle as in the generic step") {
+  // The stepper skips the reef look-up where no reef can lie near the node a
+  // larva ends at (GridStepper::mark_reef_nodes); that test must also hold
+  // for reefs given in another longitude numbering than the currents.
+  const fs::path dir = fs::temp_directory_path() / "cullcast-grid-stepper-reef-numbering";
+  const fs::path file = write_flow(dir, 81, 61, 150.0, -20.3, 0.01);
+  const auto reef_set = one_reef(150.42 - 360.0, -20.0, 0.02);
+  const auto earth = drift::EarthModel::sphere(6371000.0);
+  const auto start = grid_of_particles(150.05 - 360.0, -20.25, 0.5, 40);
+  const Outcome fast = run(true, file, start, drift::Scheme::rk4, 2.0, reef_set, 60, earth);
+  const Outcome generic = run(false, file, start, drift::Scheme::rk4, 2.0, reef_set, 60, earth);
+  CHECK(fast.steps == generic.steps);
+  compare(fast, generic, 1e-6);
+  std::size_t settled_fast = 0, settled_generic = 0;
+  for (std::size_t i = 0; i < start.size(); ++i) {
+    settled_fast += fast.p.fate[i] == drift::Fate::settled;
+    settled_generic += generic.p.fate[i] == drift::Fate::settled;
+  }
+  CHECK(settled_fast > 5);  // the reef is reached
+  CHECK(settled_fast + 1 >= settled_generic);
+  CHECK(settled_generic + 1 >= settled_fast);
+  fs::remove_all(dir);
+}
+
 TEST_CASE("grid stepper: larvae given west of the antimeridian on a grid numbered 175..185 E") {
   // Longitudes are wrapped into the grid's numbering only where needed
   // (grid_lanes.hpp, cell()): larvae at -179.6..-175.6 E (= 180.4..184.4 E)

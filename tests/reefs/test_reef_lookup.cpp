@@ -115,6 +115,39 @@ TEST_CASE("overlaps go to the lowest index, off-grid and NaN give -1", "[reefs][
   CHECK(empty.reef_at(150, -20) == -1);
 }
 
+TEST_CASE("may_hold_reef is false only for boxes where reef_at finds no reef", "[reefs][lookup]") {
+  const ReefSet set = hand_made_reefs();
+  for (double buffer : {0.0, 200.0}) {
+    const ReefLookup lookup(set, buffer);
+    std::mt19937_64 gen(11);
+    std::uniform_real_distribution<double> lon(150.0, 150.3), lat(-20.25, -20.0), side(0.0, 0.02);
+    int open = 0, held = 0;
+    for (int k = 0; k < 4000; ++k) {
+      const double x0 = lon(gen), y0 = lat(gen), x1 = x0 + side(gen), y1 = y0 + side(gen);
+      const bool may = lookup.may_hold_reef(x0, x1, y0, y1);
+      bool found = false;  // a 21 x 21 sample of the box, corners and edges included
+      for (int a = 0; a <= 20 && !found; ++a) {
+        for (int c = 0; c <= 20 && !found; ++c) {
+          found = lookup.reef_at(x0 + (x1 - x0) * a / 20.0, y0 + (y1 - y0) * c / 20.0) >= 0;
+        }
+      }
+      if (found) CHECK(may);
+      held += found ? 1 : 0;
+      open += may ? 0 : 1;
+    }
+    CHECK(held > 100);  // both kinds of box were drawn
+    CHECK(open > 100);
+    CHECK_FALSE(lookup.may_hold_reef(151.0, 151.1, -20.1, -20.0));  // east of every reef
+    CHECK(lookup.may_hold_reef(150.0, 151.0, -21.0, -19.0));        // around all of them
+  }
+  const ReefLookup empty(ReefSet{}, 100.0);
+  CHECK_FALSE(empty.may_hold_reef(150, 151, -21, -20));
+  const ReefLookup a(hand_made_reefs(), 0.0), b(hand_made_reefs(), 0.0);
+  const ReefLookup copy = a;
+  CHECK(a.serial() != b.serial());
+  CHECK(copy.serial() == a.serial());
+}
+
 TEST_CASE("buffer membership matches GeographicLib geodesic distance to the edge", "[reefs][lookup][buffer][slow]") {
   // Reference: inside (GEOS Contains) or WGS84 geodesic distance to the nearest
   // edge <= buffer, the distance from GeographicLib Inverse (Karney 2013)

@@ -70,7 +70,12 @@ class GridStepper {
   VectorIsa isa_ = VectorIsa::baseline;
   std::vector<float> stage_uv_[3];         // (u, v) at the stage times t0, t0 + dt/2, t0 + dt
   std::vector<float> temperature_, chlorophyll_;  // scalar slices at t0 + dt/2 (CurrentField::scalar_slice)
-  std::vector<std::int32_t> wet_;          // the top level's water mask, one word per node
+  // The top level's nodes, one word each: 0 land, 1 water, 2 water where a
+  // reef may lie within the node's cell (for the look-up of serial
+  // reef_serial_; mark_reef_nodes()).
+  std::vector<std::int32_t> wet_;
+  std::uint64_t reef_serial_ = 0;
+  void mark_reef_nodes(const reefs::ReefLookup& reefs);
   std::vector<double> row_sin_, row_cos_;  // sine and cosine of each row's latitude
   // Fine grids: the slices hold cells/s (the metric folded in per row).
   bool folded_ = false;

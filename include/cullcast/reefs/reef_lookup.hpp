@@ -45,6 +45,15 @@ class ReefLookup {
     return code >= -1 ? code : from_candidates(code, lon, lat, iy);
   }
 
+  // Whether reef_at() could answer a reef anywhere in the box [lon_min,
+  // lon_max] x [lat_min, lat_max] (degrees): false only when it answers -1
+  // at every point of it. Conservative: one coarse block of margin. Lets the
+  // drift skip look-ups over open water.
+  bool may_hold_reef(double lon_min, double lon_max, double lat_min, double lat_max) const noexcept;
+  // Distinct for every look-up built (a copy keeps its original's): what a
+  // user derived from one look-up can be cached under it.
+  std::uint64_t serial() const noexcept { return serial_; }
+
   // Diagnostics (for logs and the benchmark).
   double cell_size_m() const noexcept { return cell_size_m_; }  // nominal cell side, metres
   std::size_t cell_count() const noexcept { return cells_.size(); }
@@ -83,6 +92,7 @@ class ReefLookup {
   static constexpr int kBlock = 16;    // cells per side of one coarse block
   int block_nx_ = 0;                   // coarse blocks per row
   std::vector<std::uint8_t> occupied_; // per coarse block: 1 if any cell is not "none"
+  std::uint64_t serial_ = 0;
 };
 
 }  // namespace cullcast::reefs
