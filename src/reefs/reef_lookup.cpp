@@ -196,11 +196,28 @@ ReefLookup::ReefLookup(const ReefSet& reefs, double buffer_m) : buffer_m_(std::m
   for (int r = 0; r < ny_; ++r) {
     for (int c = 0; c < nx_; ++c) {
       if (cells_[static_cast<std::size_t>(r) * static_cast<std::size_t>(nx_) + static_cast<std::size_t>(c)] != -1) {
-        occupied_[static_cast<std::size_t>(r / kBlock) * static_cast<std::size_t>(block_nx_) +
-                  static_cast<std::size_t>(c / kBlock)] = 1;
+        occupied_[block_of(c, r)] = 1;
       }
     }
   }
+  // --- only the occupied blocks' cells are kept, block by block: a larva's
+  // neighbours in space then find theirs in the same few cache lines, where
+  // rows of the whole raster lie a page or more apart ------------------------
+  block_slot_.assign(occupied_.size(), 0);
+  std::uint32_t slots = 0;
+  for (std::size_t b = 0; b < occupied_.size(); ++b) {
+    if (occupied_[b]) block_slot_[b] = slots++;
+  }
+  std::vector<std::int32_t> blocks(static_cast<std::size_t>(slots) * kBlockCells, -1);
+  for (int r = 0; r < ny_; ++r) {
+    for (int c = 0; c < nx_; ++c) {
+      const std::size_t b = block_of(c, r);
+      if (!occupied_[b]) continue;
+      blocks[static_cast<std::size_t>(block_slot_[b]) * kBlockCells + within_block(c, r)] =
+          cells_[static_cast<std::size_t>(r) * static_cast<std::size_t>(nx_) + static_cast<std::size_t>(c)];
+    }
+  }
+  cells_ = std::move(blocks);
 
   // --- flatten candidate lists -----------------------------------------------
   list_start_.reserve(build_lists.size() + 1);
@@ -285,7 +302,8 @@ std::size_t ReefLookup::edge_cell_count() const noexcept {
 }
 
 std::size_t ReefLookup::memory_bytes() const noexcept {
-  return cells_.capacity() * sizeof(std::int32_t) + list_start_.capacity() * sizeof(std::uint32_t) +
+  return cells_.capacity() * sizeof(std::int32_t) + block_slot_.capacity() * sizeof(std::uint32_t) +
+         list_start_.capacity() * sizeof(std::uint32_t) +
          lists_.capacity() * sizeof(std::int32_t) + reef_rows_.capacity() * sizeof(ReefRows) +
          bucket_start_.capacity() * sizeof(std::uint32_t) + edges_.capacity() * sizeof(Edge) +
          2 * row_m_per_deg_lon_.capacity() * sizeof(double) + occupied_.capacity();

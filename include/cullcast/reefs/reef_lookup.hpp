@@ -6,7 +6,8 @@
 // How it works (docs/reefs.md, "Look-up"):
 // - a regular lon/lat raster over all reefs (plus the buffer); cell side about
 //   1/8 of the square root of the smallest reef's area, coarser if the raster
-//   would exceed 8 M cells (32 MB);
+//   would exceed 8 M cells (32 MB while it is built; then only its 16 x 16
+//   blocks holding some reef are kept, block by block, for locality);
 // - each cell holds "no reef", "inside reef k", or a short list of candidate
 //   reefs, lowest index first, each "always" or "check exactly";
 // - "check exactly" = even-odd crossing test (holes and multipolygons
@@ -36,12 +37,10 @@ class ReefLookup {
     // Written so that NaN coordinates fail the test too.
     if (!(fx >= 0 && fy >= 0 && fx < nx_ && fy < ny_)) return -1;
     const int ix = static_cast<int>(fx), iy = static_cast<int>(fy);
-    if (!occupied_[static_cast<std::size_t>(iy / kBlock) * static_cast<std::size_t>(block_nx_) +
-                   static_cast<std::size_t>(ix / kBlock)]) {
-      return -1;
-    }
-    const std::int32_t code = cells_[static_cast<std::size_t>(iy) * static_cast<std::size_t>(nx_) +
-                                     static_cast<std::size_t>(ix)];
+    const std::size_t block = block_of(ix, iy);
+    if (!occupied_[block]) return -1;
+    const std::int32_t code =
+        cells_[static_cast<std::size_t>(block_slot_[block]) * kBlockCells + within_block(ix, iy)];
     return code >= -1 ? code : from_candidates(code, lon, lat, iy);
   }
 
@@ -56,7 +55,9 @@ class ReefLookup {
 
   // Diagnostics (for logs and the benchmark).
   double cell_size_m() const noexcept { return cell_size_m_; }  // nominal cell side, metres
-  std::size_t cell_count() const noexcept { return cells_.size(); }
+  std::size_t cell_count() const noexcept {  // of the whole raster (only occupied blocks are stored)
+    return static_cast<std::size_t>(nx_) * static_cast<std::size_t>(ny_);
+  }
   std::size_t edge_cell_count() const noexcept;  // cells needing an exact test
   std::size_t memory_bytes() const noexcept;
 
@@ -80,8 +81,9 @@ class ReefLookup {
   double cell_size_m_ = 0;              // nominal cell side, metres
   double buffer_m_ = 0;                 // settlement buffer, metres
   int buffer_rows_ = 0;                 // rows searched either side for buffer distances
-  // Cell codes, row-major from the south-west: -1 none, k >= 0 inside reef k,
-  // c <= -2 candidate list number (-2 - c).
+  // Cell codes: -1 none, k >= 0 inside reef k, c <= -2 candidate list
+  // number (-2 - c). Stored only for occupied blocks (see below), block by
+  // block, each block's kBlock x kBlock cells row-major from its south-west.
   std::vector<std::int32_t> cells_;
   std::vector<std::uint32_t> list_start_;  // candidate list l = lists_[list_start_[l] .. [l+1])
   std::vector<std::int32_t> lists_;        // entry = 2 * reef + (1 if it needs an exact test)
@@ -90,8 +92,17 @@ class ReefLookup {
   std::vector<Edge> edges_;
   std::vector<double> row_m_per_deg_lon_, row_m_per_deg_lat_;  // LocalMetric at each row centre
   static constexpr int kBlock = 16;    // cells per side of one coarse block
+  static constexpr std::size_t kBlockCells = kBlock * kBlock;
   int block_nx_ = 0;                   // coarse blocks per row
   std::vector<std::uint8_t> occupied_; // per coarse block: 1 if any cell is not "none"
+  std::vector<std::uint32_t> block_slot_;  // per occupied block: its place in cells_ (in blocks)
+  std::size_t block_of(int ix, int iy) const noexcept {
+    return static_cast<std::size_t>(iy / kBlock) * static_cast<std::size_t>(block_nx_) +
+           static_cast<std::size_t>(ix / kBlock);
+  }
+  static std::size_t within_block(int ix, int iy) noexcept {
+    return static_cast<std::size_t>(iy % kBlock) * kBlock + static_cast<std::size_t>(ix % kBlock);
+  }
   std::uint64_t serial_ = 0;
 };
 
