@@ -163,17 +163,27 @@ void GridStepper::mark_reef_nodes(const reefs::ReefLookup& reefs) {
   reef_serial_ = reefs.serial();
   const currents::FlowSampler& s = field_.sampler();
   const double dlon = 1.0 / s.inv_dlon, dlat = 1.0 / s.inv_dlat;
+  // Reefs may be given 360 degrees east or west of the currents: only the
+  // shifts that bring some reef onto the grid are tried node by node.
+  const double east_end = s.lon_first + static_cast<double>(s.nx - 1) * dlon;
+  const double north_end = s.lat_first + static_cast<double>(s.ny - 1) * dlat;
+  std::vector<double> shifts;
+  for (double shift : {0.0, -360.0, 360.0}) {
+    if (reefs.may_hold_reef(s.lon_first + shift - dlon, east_end + shift + dlon, s.lat_first - dlat,
+                            north_end + dlat)) {
+      shifts.push_back(shift);
+    }
+  }
   for (std::ptrdiff_t j = 0; j < s.ny; ++j) {
     const double lat = s.lat_first + static_cast<double>(j) * dlat;
     for (std::ptrdiff_t i = 0; i < s.nx; ++i) {
       std::int32_t& node = wet_[static_cast<std::size_t>(j * s.nx + i)];
       if (node == 0) continue;
       // A cell's width around the node: more than the positions whose
-      // nearest node it is (half a cell either way). Reefs may be given 360
-      // degrees east or west of the currents.
+      // nearest node it is (half a cell either way).
       const double lon = s.lon_first + static_cast<double>(i) * dlon;
       bool near = false;
-      for (double shift : {0.0, -360.0, 360.0}) {
+      for (double shift : shifts) {
         near = near || reefs.may_hold_reef(lon + shift - dlon, lon + shift + dlon, lat - dlat, lat + dlat);
       }
       node = near ? 2 : 1;
