@@ -106,6 +106,44 @@ TEST_CASE("walk deviates: steps 2m and 2m+1 share one block; the batch form give
   }
 }
 
+// The widths of the grid stepper's AVX2 and AVX-512 kernels, here called
+// from generic code (their multiplications out of line): the same bits as
+// the scalar generator, for batches longer than one block of 4 x 16 lanes.
+template <int Width>
+void check_wide_walk_batch() {
+  const cullcast::CounterRandom rng(0x5eed0000feedULL);
+  constexpr int kCount = 70;
+  std::uint32_t source[kCount], particle[kCount];
+  double z0[kCount], z1[kCount];
+  float w0[kCount], w1[kCount];
+  for (int l = 0; l < kCount; ++l) {
+    source[l] = static_cast<std::uint32_t>(7 * l % 5);
+    particle[l] = static_cast<std::uint32_t>(0xFFFFFFF0u + 3 * l);  // wraps through 0
+  }
+  for (std::uint32_t pair : {0u, 17u, 0x7FFFFFFFu}) {
+    rng.walk_normal4_batch<Width>(9, source, particle, kCount, pair, z0, z1, w0, w1);
+    int differ = 0;
+    for (int l = 0; l < kCount; ++l) {
+      const auto even = rng.walk_normal2({9, source[l], particle[l]}, 2 * pair);
+      const auto odd = rng.walk_normal2({9, source[l], particle[l]}, 2 * pair + 1);
+      differ += z0[l] != even[0] || z1[l] != even[1] || static_cast<double>(w0[l]) != odd[0] ||
+                static_cast<double>(w1[l]) != odd[1];
+    }
+    CHECK(differ == 0);
+  }
+}
+
+TEST_CASE("walk deviates: the AVX2 and AVX-512 widths of the batch form give the same bits") {
+#if defined(__x86_64__)
+  __builtin_cpu_init();
+  if (__builtin_cpu_supports("avx2")) check_wide_walk_batch<8>();
+  if (__builtin_cpu_supports("avx512f")) check_wide_walk_batch<16>();
+  check_wide_walk_batch<4>();
+#else
+  SUCCEED("only x86-64 has the wide forms");
+#endif
+}
+
 TEST_CASE("walk deviates of odd and even steps are standard normal and uncorrelated") {
   // The two pairs of one Philox block are independent (Salmon et al. 2011,
   // SC11: every output word of Philox4x32-10 passes the Crush tests).

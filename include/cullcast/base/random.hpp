@@ -7,8 +7,9 @@
 #include <bit>
 #include <cmath>
 #include <cstdint>
-#if defined(__SSE2__)
-#include <emmintrin.h>
+#include <cstring>
+#if defined(__x86_64__)
+#include <immintrin.h>
 #endif
 
 #include "cullcast/base/plain_math.hpp"
@@ -34,6 +35,43 @@ inline PhiloxCounter philox4x32_10(PhiloxCounter c, PhiloxKey k) noexcept {
   }
   return c;
 }
+
+#if defined(__x86_64__)
+// The one Philox operation plain vector arithmetic lacks: 32 x 32 -> 64-bit
+// products of the low halves of 64-bit elements, per vector width. The
+// AVX2 and AVX-512 forms are compiled for those instruction sets and end up
+// only inside code compiled for them (the grid stepper's kernels, which
+// inline everything they call); values go by reference, as vectors wider
+// than the baseline's registers have an ABI of their own per instruction set.
+namespace philox_simd {
+template <int Width>
+struct Ops;
+template <>
+struct Ops<4> {
+  using U = std::uint64_t __attribute__((vector_size(16)));
+  static void mul_even(const U& a, const U& b, U& out) noexcept {
+    out = reinterpret_cast<U>(_mm_mul_epu32(reinterpret_cast<__m128i>(a), reinterpret_cast<__m128i>(b)));
+  }
+};
+template <>
+struct Ops<8> {
+  using U = std::uint64_t __attribute__((vector_size(32)));
+  [[gnu::target("avx2")]] static void mul_even(const U& a, const U& b, U& out) noexcept {
+    out = reinterpret_cast<U>(_mm256_mul_epu32(reinterpret_cast<__m256i>(a), reinterpret_cast<__m256i>(b)));
+  }
+};
+template <>
+struct Ops<16> {
+  using U = std::uint64_t __attribute__((vector_size(64)));
+  [[gnu::target("avx512f")]] static void mul_even(const U& a, const U& b, U& out) noexcept {
+    // (maskz with every lane set: the unmasked form reads an undefined source
+    // that GCC 12 warns about)
+    out = reinterpret_cast<U>(_mm512_maskz_mul_epu32(static_cast<__mmask8>(0xFF), reinterpret_cast<__m512i>(a),
+                                                     reinterpret_cast<__m512i>(b)));
+  }
+};
+}  // namespace philox_simd
+#endif
 
 // Identifies one particle's stream. `event` and `draw` share the last counter
 // word (16 bits each): up to 65536 events and 65536 draws per step.
@@ -103,36 +141,38 @@ class CounterRandom {
   // can vectorise them (the drift's grid stepper calls this per batch).
   void normal2_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle, int count,
                      std::uint32_t step, Draw draw, double* z0, double* z1) const noexcept {
-    block_batch<false>(event, source, particle, count, step, draw, z0, z1, nullptr, nullptr);
+    block_batch<false, 4>(event, source, particle, count, step, draw, z0, z1, nullptr, nullptr);
   }
 
   // walk_normal2() of a batch for both steps of the pair 2m, 2m+1 (`pair` =
   // m): even0/even1 the even step's deviates, odd0/odd1 the odd step's, bit
-  // for bit as walk_normal2() gives them.
+  // for bit as walk_normal2() gives them. `Width`: 32-bit lanes per vector
+  // register of the caller's instruction set (4 SSE2; 8 AVX2 and 16 AVX-512,
+  // only from code compiled for them: philox_simd below).
+  template <int Width = 4>
   void walk_normal4_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle,
                           int count, std::uint32_t pair, double* even0, double* even1, float* odd0,
                           float* odd1) const noexcept {
-    block_batch<true>(event, source, particle, count, pair, Draw::diffusion, even0, even1, odd0, odd1);
+    block_batch<true, Width>(event, source, particle, count, pair, Draw::diffusion, even0, even1, odd0, odd1);
   }
 
  private:
-  // Lanes whose Philox blocks are computed together (philox_lanes).
-  static constexpr int kBlockLanes = 16;
-
   // One Philox block per lane: deviates from its first two words into z0/z1
-  // and, when `Both`, from its last two into w0/w1.
-  template <bool Both>
+  // and, when `Both`, from its last two into w0/w1. Blocks are computed four
+  // vector registers at a time (philox_lanes).
+  template <bool Both, int Width>
   void block_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle, int count,
                    std::uint32_t step, Draw draw, double* z0, double* z1, float* w0, float* w1) const noexcept {
+    constexpr int kBlockLanes = 4 * Width;
     const std::uint32_t tail = (event << 16) | (static_cast<std::uint32_t>(draw) & 0xFFFFu);
     for (int first = 0; first < count; first += kBlockLanes) {
       const int n = count - first < kBlockLanes ? count - first : kBlockLanes;
-      alignas(16) std::uint32_t c0[kBlockLanes], c1[kBlockLanes], c2[kBlockLanes], c3[kBlockLanes];
+      alignas(64) std::uint32_t c0[kBlockLanes], c1[kBlockLanes], c2[kBlockLanes], c3[kBlockLanes];
       for (int l = 0; l < kBlockLanes; ++l) {  // spare lanes compute a block nobody reads
         c0[l] = l < n ? particle[first + l] : 0u;
         c1[l] = l < n ? source[first + l] : 0u;
       }
-      philox_lanes(c0, c1, c2, c3, step, tail);
+      philox_lanes<Width>(c0, c1, c2, c3, step, tail);
       for (int l = 0; l < n; ++l) {
         float a, b;
         box_muller(c0[l], c1[l], a, b);
@@ -143,53 +183,61 @@ class CounterRandom {
     }
   }
 
-  // philox4x32_10() of kBlockLanes counters (c0[l], c1[l], step, tail) with
-  // this generator's key; the blocks replace the counters in c0..c3. With
-  // SSE2 (every x86-64), four lanes per instruction: 32 x 32 -> 64-bit
-  // products of the even lanes, then of the odd lanes shifted down, and the
-  // high and low halves put back in lane order with masks. The compiler's
-  // own vectorisation of the scalar rounds spends three times the
-  // instructions re-ordering lanes. Integer operations only: the same bits
-  // as philox4x32_10() on any processor.
+  // philox4x32_10() of 4·Width counters (c0[l], c1[l], step, tail) with
+  // this generator's key; the blocks replace the counters in c0..c3. Four
+  // vector registers per word, Width lanes each: 32 x 32 -> 64-bit products
+  // of the even lanes, then of the odd lanes shifted down, and the high and
+  // low halves put back in lane order with masks. (The compiler's own
+  // vectorisation of the scalar rounds spends three times the instructions
+  // re-ordering lanes.) Integer operations only: the same bits as
+  // philox4x32_10() on any processor and at any width.
+  template <int Width>
   void philox_lanes(std::uint32_t* c0, std::uint32_t* c1, std::uint32_t* c2, std::uint32_t* c3, std::uint32_t step,
                     std::uint32_t tail) const noexcept {
-#if defined(__SSE2__)
-    constexpr int kGroups = kBlockLanes / 4;
-    const __m128i mul0 = _mm_set1_epi64x(kPhiloxMul0), mul1 = _mm_set1_epi64x(kPhiloxMul1);
-    const __m128i low = _mm_set1_epi64x(0xFFFFFFFFll);
-    __m128i a[kGroups], b[kGroups], c[kGroups], d[kGroups];
+#if defined(__x86_64__)
+    using Ops = philox_simd::Ops<Width>;
+    using U = typename Ops::U;  // Width/2 unsigned 64-bit elements
+    constexpr int kGroups = 4;
+    constexpr std::uint64_t kLow = 0xFFFFFFFFu;
+    const U mul0 = U{} + std::uint64_t{kPhiloxMul0}, mul1 = U{} + std::uint64_t{kPhiloxMul1};
+    const auto both_halves = [](std::uint32_t w, U& out) { out = U{} + ((std::uint64_t{w} << 32) | w); };
+    U a[kGroups], b[kGroups], c[kGroups], d[kGroups];
     for (int g = 0; g < kGroups; ++g) {
-      a[g] = _mm_load_si128(reinterpret_cast<const __m128i*>(c0 + 4 * g));
-      b[g] = _mm_load_si128(reinterpret_cast<const __m128i*>(c1 + 4 * g));
-      c[g] = _mm_set1_epi32(static_cast<int>(step));
-      d[g] = _mm_set1_epi32(static_cast<int>(tail));
+      std::memcpy(&a[g], c0 + Width * g, sizeof(U));
+      std::memcpy(&b[g], c1 + Width * g, sizeof(U));
+      both_halves(step, c[g]);
+      both_halves(tail, d[g]);
     }
     std::uint32_t k0 = key_[0], k1 = key_[1];
     for (int round = 0; round < 10; ++round) {
-      const __m128i key0 = _mm_set1_epi32(static_cast<int>(k0)), key1 = _mm_set1_epi32(static_cast<int>(k1));
+      U key0, key1;
+      both_halves(k0, key0);
+      both_halves(k1, key1);
       for (int g = 0; g < kGroups; ++g) {  // independent groups: their latencies overlap
-        const __m128i even0 = _mm_mul_epu32(a[g], mul0), odd0 = _mm_mul_epu32(_mm_srli_epi64(a[g], 32), mul0);
-        const __m128i even1 = _mm_mul_epu32(c[g], mul1), odd1 = _mm_mul_epu32(_mm_srli_epi64(c[g], 32), mul1);
-        const __m128i hi0 = _mm_or_si128(_mm_srli_epi64(even0, 32), _mm_andnot_si128(low, odd0));
-        const __m128i lo0 = _mm_or_si128(_mm_and_si128(even0, low), _mm_slli_epi64(odd0, 32));
-        const __m128i hi1 = _mm_or_si128(_mm_srli_epi64(even1, 32), _mm_andnot_si128(low, odd1));
-        const __m128i lo1 = _mm_or_si128(_mm_and_si128(even1, low), _mm_slli_epi64(odd1, 32));
-        a[g] = _mm_xor_si128(_mm_xor_si128(hi1, b[g]), key0);
+        U even0, odd0, even1, odd1;
+        const U a_odd = a[g] >> 32, c_odd = c[g] >> 32;
+        Ops::mul_even(a[g], mul0, even0);
+        Ops::mul_even(a_odd, mul0, odd0);
+        Ops::mul_even(c[g], mul1, even1);
+        Ops::mul_even(c_odd, mul1, odd1);
+        const U hi0 = (even0 >> 32) | (odd0 & ~kLow), lo0 = (even0 & kLow) | (odd0 << 32);
+        const U hi1 = (even1 >> 32) | (odd1 & ~kLow), lo1 = (even1 & kLow) | (odd1 << 32);
+        a[g] = hi1 ^ b[g] ^ key0;
         b[g] = lo1;
-        c[g] = _mm_xor_si128(_mm_xor_si128(hi0, d[g]), key1);
+        c[g] = hi0 ^ d[g] ^ key1;
         d[g] = lo0;
       }
       k0 += kPhiloxWeyl0;
       k1 += kPhiloxWeyl1;
     }
     for (int g = 0; g < kGroups; ++g) {
-      _mm_store_si128(reinterpret_cast<__m128i*>(c0 + 4 * g), a[g]);
-      _mm_store_si128(reinterpret_cast<__m128i*>(c1 + 4 * g), b[g]);
-      _mm_store_si128(reinterpret_cast<__m128i*>(c2 + 4 * g), c[g]);
-      _mm_store_si128(reinterpret_cast<__m128i*>(c3 + 4 * g), d[g]);
+      std::memcpy(c0 + Width * g, &a[g], sizeof(U));
+      std::memcpy(c1 + Width * g, &b[g], sizeof(U));
+      std::memcpy(c2 + Width * g, &c[g], sizeof(U));
+      std::memcpy(c3 + Width * g, &d[g], sizeof(U));
     }
 #else
-    for (int l = 0; l < kBlockLanes; ++l) {
+    for (int l = 0; l < 4 * Width; ++l) {
       const PhiloxCounter w = philox4x32_10({c0[l], c1[l], step, tail}, key_);
       c0[l] = w[0], c1[l] = w[1], c2[l] = w[2], c3[l] = w[3];
     }
