@@ -22,8 +22,19 @@ using Catch::Matchers::Contains;
 
 namespace {
 
+// This process's scratch folders, removed when the test program ends.
+struct ScratchRoot {
+  const pid_t owner = ::getpid();
+  const fs::path path = fs::temp_directory_path() / ("cullcast-lock-" + std::to_string(owner));
+  ~ScratchRoot() {
+    std::error_code ignored;
+    if (::getpid() == owner) fs::remove_all(path, ignored);
+  }
+};
+const ScratchRoot scratch_root;
+
 fs::path scratch(const std::string& name) {
-  const fs::path dir = fs::temp_directory_path() / ("cullcast-lock-" + std::to_string(::getpid())) / name;
+  const fs::path dir = scratch_root.path / name;
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;

@@ -24,8 +24,19 @@ using cullcast::reefs::Polygon;
 using cullcast::reefs::Reef;
 using cullcast::reefs::Ring;
 
+// This process's scratch folders, removed when the test program ends.
+struct ScratchRoot {
+  const pid_t owner = ::getpid();
+  const fs::path path = fs::temp_directory_path() / ("cullcast-reefs-" + std::to_string(owner));
+  ~ScratchRoot() {
+    std::error_code ignored;
+    if (::getpid() == owner) fs::remove_all(path, ignored);
+  }
+};
+inline const ScratchRoot scratch_root;
+
 inline fs::path scratch(const std::string& name) {
-  fs::path dir = fs::temp_directory_path() / ("cullcast-reefs-" + std::to_string(::getpid())) / name;
+  fs::path dir = scratch_root.path / name;
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;
