@@ -334,6 +334,28 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         }
       }
 
+      // What the batch's larvae met (conditions_at()) first, where each
+      // ends the step, held or not: short loops, so the exponentials and
+      // logarithms of successive larvae run side by side.
+      alignas(64) double rate[kLanes], food_log2[kLanes];
+      if (develops) {
+        alignas(64) double temperature[kLanes], chlorophyll[kLanes];
+        alignas(64) bool feeding[kLanes];
+        for (int l = 0; l < m; ++l) {
+          const bool held = b.where[l] == lanes::kLand;
+          const double lon = held ? b.lon0[l] : b.lon[l], lat = held ? b.lat0[l] : b.lat[l];
+          feeding[l] = feeds(environment, clock, p.development_s[idx[l]]);
+          temperature[l] = scalars.temperature_c(t_mid_model, lon, lat, depth);
+          chlorophyll[l] = feeding[l] ? scalars.chlorophyll_mg_m3(t_mid_model, lon, lat, depth) : 0.0;
+        }
+        for (int l = 0; l < m; ++l) rate[l] = Conditions{}.rate;
+        if (environment.temperature_on()) {
+          for (int l = 0; l < m; ++l) rate[l] = environment.development_rate(temperature[l]);
+        }
+        for (int l = 0; l < m; ++l) food_log2[l] = environment.food_log2(chlorophyll[l]);
+        for (int l = 0; l < m; ++l) food_log2[l] = feeding[l] ? food_log2[l] : Conditions{}.food_log2;
+      }
+
       for (int l = 0; l < m; ++l) {
         max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
         const std::int64_t i = idx[l];
@@ -363,8 +385,8 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         const double age1 = t1 - p.release_s[i];
         double development = age1;  // the real age unless temperature/food act
         if (develops) {
-          development = develop(p, i, id, step, environment, scalars, t_mid_model, lon, lat, depth,
-                                s.dt_s, age1, clock, rng);
+          development = develop(p, i, id, step, environment, Conditions{rate[l], food_log2[l]}, s.dt_s, age1,
+                                clock, rng);
           if (development < 0) {
             ++died;
             continue;

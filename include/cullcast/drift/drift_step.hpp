@@ -164,8 +164,9 @@ StepTally drift_step(ParticleSet& p, std::uint32_t step, const StepSettings& s,
             extras.move_vertically(flow, t0_model + 0.5 * s.dt_s, s.dt_s, x, depth, age0, r));
       }
       if (extras.environment.any()) {
-        dev1 = develop(p, i, id, step, extras.environment, *extras.fields, t0_model + 0.5 * s.dt_s, x[0], x[1],
-                       depth, s.dt_s, age1, clock, rng);
+        const Conditions met = conditions_at(extras.environment, clock, *extras.fields, p.development_s[i],
+                                             t0_model + 0.5 * s.dt_s, x[0], x[1], depth);
+        dev1 = develop(p, i, id, step, extras.environment, met, s.dt_s, age1, clock, rng);
         if (dev1 < 0) {
           ++died;
           continue;
