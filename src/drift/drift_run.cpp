@@ -1,5 +1,6 @@
 #include "cullcast/drift/drift_run.hpp"
 
+#include <algorithm>
 #include <chrono>
 #include <limits>
 #include <optional>
@@ -32,6 +33,30 @@ double event_length_s(const study::SpawningEvent& e, const study::LarvaeSettings
 
 std::string describe_time(const currents::Calendar& c, double s) {
   return format_iso8601(c.to_civil(s));
+}
+
+// Every release point of an event lies on land or off the currents grid: the
+// release sources and the currents do not cover the same sea, and the drift
+// could only report larvae that never moved. `p`: this event's particles
+// when this process holds all of them (their extent goes into the message).
+[[noreturn]] void no_release_over_water(const std::string& label, std::uint64_t points, const ParticleSet* p,
+                                        const currents::GridSummary& g, const study::Study& study) {
+  std::ostringstream m;
+  m.precision(6);
+  m << label << ": none of the " << points << " release points lies over water in the currents";
+  if (p != nullptr && p->size() > 0) {
+    const auto [lon_lo, lon_hi] = std::minmax_element(p->lon.begin(), p->lon.end());
+    const auto [lat_lo, lat_hi] = std::minmax_element(p->lat.begin(), p->lat.end());
+    m << " (release points span longitude " << *lon_lo << " to " << *lon_hi << ", latitude " << *lat_lo
+      << " to " << *lat_hi << ";";
+  } else {
+    m << " (";
+  }
+  m << " the currents grid covers longitude " << g.lon_min << " to " << g.lon_max << ", latitude " << g.lat_min
+    << " to " << g.lat_max << ", " << std::lround(100.0 * g.land_fraction) << " % of it land)"
+    << ": the reef layer '" << study.reefs.layer.string()
+    << "', its aggregations and the [currents] files must cover the same sea, with water where the reefs are";
+  throw InputError(m.str());
 }
 
 ParticleSet particles_from(const std::vector<reefs::ReleasePoint>& plan) {
@@ -257,6 +282,9 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     }
     std::int64_t released_here = 0;
     for (const auto& f : out.fates) released_here += f.released;
+    if (released_here > 0 && out.off_water == static_cast<std::uint64_t>(released_here)) {
+      no_release_over_water(event.label, out.off_water, nullptr, field.grid(), study);
+    }
     if (out.off_water > 0) {
       std::ostringstream w;
       w << event.label << ": " << out.off_water << " of " << released_here
@@ -402,6 +430,11 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       if (extras.environment.any()) p.enable_development();
       for (std::size_t i = 0; i < p.size(); ++i) {
         if (field.status(p.lon[i], p.lat[i]) != currents::SampleStatus::water) ++out.off_water;
+      }
+      // All of this event here, none of it over water: stop before drifting
+      // (shared events are checked once merged, in finish_event).
+      if (mine.size() == sources.size() && p.size() > 0 && out.off_water == p.size()) {
+        no_release_over_water(event.label, p.size(), &p, field.grid(), study);
       }
     }
     if (tracks) tracks->begin_event(step.event, p);

@@ -215,6 +215,20 @@ def case_table():
     def _(s):
         s.set_key('files = ["currents/*.nc"]', 'files = ["hydro/*.nc"]')
 
+    @case("currents_all_land", 3, "none of the 60 release points lies over water", "100 % of it land",
+          "reefs.geojson")
+    def _(s):
+        with netCDF4.Dataset(s.path("currents/flow.nc"), "a") as nc:
+            nc["u"][:] = np.ma.masked
+
+    @case("reefs_outside_currents", 3, "none of the", "release points span longitude 151.", "reefs.geojson",
+          "[currents] files")
+    def _(s):
+        for feature in s.reefs["features"]:
+            feature["geometry"]["coordinates"] = [[[x + 1.0, y] for x, y in ring]
+                                                  for ring in feature["geometry"]["coordinates"]]
+        s.aggregations = "lon,lat,count\n151.06,-20.10,12\n"
+
     # reefs
     @case("reefs_self_intersecting", 3, "reefs.geojson", "feature", "B")
     def _(s):
