@@ -582,12 +582,15 @@ template <bool Wrap, int Width>
 // move a larva a few degrees per step at the very most.
 [[gnu::always_inline]] inline bool wrap_needed(const Grid& g, const Batch& b) noexcept {
   if (g.gx_max / g.inv_dlon >= 300.0) return true;  // (nearly) global grid
-  bool far = false;
+  // Counted in double (a select between two doubles): a bool or integer
+  // reduction of double comparisons is left scalar by GCC 12.
+  const double lon0 = g.lon0;
+  double far = 0.0;
   for (int l = 0; l < kLanes; ++l) {
-    const double x = b.lon0[l] - g.lon0;
-    far |= !((x >= 0.0) & (x < 300.0));  // also NaN
+    const double x = b.lon0[l] - lon0;
+    far += ((x >= 0.0) & (x < 300.0)) ? 0.0 : 1.0;  // also NaN
   }
-  return far;
+  return far != 0.0;
 }
 
 // `Width`: floats per vector register of the instruction set the caller is
