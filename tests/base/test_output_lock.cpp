@@ -14,6 +14,7 @@
 
 #include "cullcast/base/error.hpp"
 #include "cullcast/base/output_lock.hpp"
+#include "../support/scratch_folder.hpp"
 
 namespace fs = std::filesystem;
 using cullcast::OutputBusyError;
@@ -22,19 +23,12 @@ using Catch::Matchers::Contains;
 
 namespace {
 
-// This process's scratch folders, removed when the test program ends.
-struct ScratchRoot {
-  const pid_t owner = ::getpid();
-  const fs::path path = fs::temp_directory_path() / ("cullcast-lock-" + std::to_string(owner));
-  ~ScratchRoot() {
-    std::error_code ignored;
-    if (::getpid() == owner) fs::remove_all(path, ignored);
-  }
-};
-const ScratchRoot scratch_root;
+// This process's scratch folders, removed when the test program ends
+// (children here exec or _exit, so only this process removes it).
+const cullcast::test::ScratchFolder scratch_root("lock");
 
 fs::path scratch(const std::string& name) {
-  const fs::path dir = scratch_root.path / name;
+  const fs::path dir = scratch_root.dir / name;
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;

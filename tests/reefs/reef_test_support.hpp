@@ -15,6 +15,7 @@
 #include <vector>
 
 #include "cullcast/reefs/reef_set.hpp"
+#include "../support/scratch_folder.hpp"
 
 namespace reef_test {
 
@@ -25,18 +26,10 @@ using cullcast::reefs::Reef;
 using cullcast::reefs::Ring;
 
 // This process's scratch folders, removed when the test program ends.
-struct ScratchRoot {
-  const pid_t owner = ::getpid();
-  const fs::path path = fs::temp_directory_path() / ("cullcast-reefs-" + std::to_string(owner));
-  ~ScratchRoot() {
-    std::error_code ignored;
-    if (::getpid() == owner) fs::remove_all(path, ignored);
-  }
-};
-inline const ScratchRoot scratch_root;
+inline const cullcast::test::ScratchFolder scratch_root("reefs");
 
 inline fs::path scratch(const std::string& name) {
-  fs::path dir = scratch_root.path / name;
+  fs::path dir = scratch_root.dir / name;
   fs::remove_all(dir);
   fs::create_directories(dir);
   return dir;
