@@ -4,6 +4,7 @@
 #include <cmath>
 #include <cstdlib>
 #include <string>
+#include <utility>
 
 #include "cullcast/base/error.hpp"
 #include "cullcast/drift/development_step.hpp"
@@ -39,11 +40,18 @@ struct SlicedScalars {
   const currents::FlowSampler& grid;
   const float* temperature;  // nullptr when off
   const float* chlorophyll;
-  double temperature_c(double, double lon, double lat, double) const noexcept {
-    return temperature ? grid.from_scalar_slice(temperature, lon, lat) : std::nan("");
-  }
-  double chlorophyll_mg_m3(double, double lon, double lat, double) const noexcept {
-    return chlorophyll ? grid.from_scalar_slice(chlorophyll, lon, lat) : std::nan("");
+  // Both fields at n points (NaN where a field is off): one cell search per
+  // point, then each field's weighting over all points.
+  void at(const double* lon, const double* lat, int n, double* temperature_c, double* chlorophyll_mg_m3) const {
+    currents::CellHit hits[lanes::kLanes];
+    for (int l = 0; l < n; ++l) grid.locate(lon[l], lat[l], hits[l]);
+    for (const auto& [slice, out] : {std::pair{temperature, temperature_c}, std::pair{chlorophyll, chlorophyll_mg_m3}}) {
+      if (slice != nullptr) {
+        grid.from_scalar_slice(slice, hits, n, out);
+      } else {
+        for (int l = 0; l < n; ++l) out[l] = std::nan("");
+      }
+    }
   }
 };
 
@@ -339,15 +347,16 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
       // logarithms of successive larvae run side by side.
       alignas(64) double rate[kLanes], food_log2[kLanes];
       if (develops) {
-        alignas(64) double temperature[kLanes], chlorophyll[kLanes];
+        alignas(64) double temperature[kLanes], chlorophyll[kLanes], lon[kLanes], lat[kLanes];
         alignas(64) bool feeding[kLanes];
         for (int l = 0; l < m; ++l) {
           const bool held = b.where[l] == lanes::kLand;
-          const double lon = held ? b.lon0[l] : b.lon[l], lat = held ? b.lat0[l] : b.lat[l];
+          lon[l] = held ? b.lon0[l] : b.lon[l];
+          lat[l] = held ? b.lat0[l] : b.lat[l];
           feeding[l] = feeds(environment, clock, p.development_s[idx[l]]);
-          temperature[l] = scalars.temperature_c(t_mid_model, lon, lat, depth);
-          chlorophyll[l] = feeding[l] ? scalars.chlorophyll_mg_m3(t_mid_model, lon, lat, depth) : 0.0;
         }
+        scalars.at(lon, lat, m, temperature, chlorophyll);
+        for (int l = 0; l < m; ++l) chlorophyll[l] = feeding[l] ? chlorophyll[l] : 0.0;
         for (int l = 0; l < m; ++l) rate[l] = Conditions{}.rate;
         if (environment.temperature_on()) {
           for (int l = 0; l < m; ++l) rate[l] = environment.development_rate(temperature[l]);

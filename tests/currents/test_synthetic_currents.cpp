@@ -7,9 +7,12 @@
 
 #include <cmath>
 #include <cstdio>
+#include <cstring>
 #include <fstream>
 #include <iterator>
 #include <numbers>
+#include <utility>
+#include <vector>
 
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/currents/synthetic_currents.hpp"
@@ -152,8 +155,10 @@ TEST_CASE("scalar slices give sample_scalar's values at any point, beside island
       REQUIRE(f.scalar_slice(kind, t, depth, slice));
       REQUIRE(slice.size() == static_cast<std::size_t>(2 * g.nx * g.ny));
       // A fine lattice over the main island and its coast, and open water.
+      std::vector<double> lons, lats;
       for (double lon = 150.10; lon <= 150.21; lon += 0.0037) {
         for (double lat = -20.26; lat <= -20.15; lat += 0.0041) {
+          lons.push_back(lon), lats.push_back(lat);
           const double expected = f.sample_scalar(kind, t, lon, lat, depth);
           const double from_slice = g.from_scalar_slice(slice.data(), lon, lat);
           INFO("lon " << lon << " lat " << lat << " depth " << depth);
@@ -166,6 +171,27 @@ TEST_CASE("scalar slices give sample_scalar's values at any point, beside island
           }
         }
       }
+      // The batched form (the grid stepper's, points located first) gives
+      // the point form's bits, also on the grid's first and last nodes, off
+      // the grid and at NaN.
+      const double nan = std::nan("");
+      for (const auto& [lon, lat] : {std::pair{g.lon_first, g.lat_first}, std::pair{g.lon_last, g.lat_last},
+                                     std::pair{g.lon_last, g.lat_first}, std::pair{g.lon_first - 0.01, g.lat_first},
+                                     std::pair{150.15, g.lat_last + 0.01}, std::pair{nan, -20.2},
+                                     std::pair{150.15, nan}}) {
+        lons.push_back(lon), lats.push_back(lat);
+      }
+      std::vector<CellHit> hits(lons.size());
+      for (std::size_t k = 0; k < lons.size(); ++k) g.locate(lons[k], lats[k], hits[k]);
+      std::vector<double> batched(lons.size());
+      g.from_scalar_slice(slice.data(), hits.data(), static_cast<int>(lons.size()), batched.data());
+      std::size_t differ = 0;
+      for (std::size_t k = 0; k < lons.size(); ++k) {
+        const double point = g.from_scalar_slice(slice.data(), lons[k], lats[k]);
+        differ += std::isnan(point) ? !std::isnan(batched[k])
+                                    : std::memcmp(&point, &batched[k], sizeof point) != 0;
+      }
+      CHECK(differ == 0);
     }
   }
   CHECK(compared > 1000);
