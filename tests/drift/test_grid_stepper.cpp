@@ -229,7 +229,8 @@ struct CurrentScalars {
 
 // Temperature- and food-dependent larvae through either path.
 drift::ParticleSet run_developing(bool grid, const fs::path& file, drift::ParticleSet p,
-                                  const reefs::ReefSet& reef_set, const std::string& mortality_as) {
+                                  const reefs::ReefSet& reef_set, const std::string& mortality_as,
+                                  drift::VectorIsa isa = drift::GridStepper::instruction_sets().back()) {
   currents::CurrentField field = currents::CurrentField::open_files({file.string()});
   field.enable_scalar(currents::ScalarKind::temperature);
   field.enable_scalar(currents::ScalarKind::chlorophyll);
@@ -253,6 +254,7 @@ drift::ParticleSet run_developing(bool grid, const fs::path& file, drift::Partic
   extras.kh_m2_s = s.kh_m2_s;
   extras.environment = environment;
   drift::GridStepper stepper(field, earth);
+  stepper.use_instruction_set(isa);
   p.enable_development();
   std::vector<std::uint8_t> now;
   for (std::uint32_t k = 0; k < 60; ++k) {
@@ -306,6 +308,19 @@ TEST_CASE("grid stepper: temperature- and food-dependent larvae as in the generi
     CHECK(settled > 10);
     CHECK(ahead > 50);
     CHECK(behind > 50);
+    // Every instruction set's batched conditions give the same bits.
+    for (const drift::VectorIsa isa : drift::GridStepper::instruction_sets()) {
+      INFO("instruction set " << drift::GridStepper::isa_name(isa));
+      const drift::ParticleSet other = run_developing(true, file, start, reef_set, mortality_as, isa);
+      std::size_t differ = 0;
+      for (std::size_t i = 0; i < n; ++i) {
+        differ += std::memcmp(&fast.lon[i], &other.lon[i], sizeof(double)) != 0 ||
+                  std::memcmp(&fast.weight[i], &other.weight[i], sizeof(double)) != 0 ||
+                  fast.development_s[i] != other.development_s[i] || fast.food_log2_s[i] != other.food_log2_s[i] ||
+                  fast.fate[i] != other.fate[i];
+      }
+      CHECK(differ == 0);
+    }
   }
   fs::remove_all(dir);
 }
