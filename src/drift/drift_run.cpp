@@ -48,11 +48,11 @@ std::string describe_time(const currents::Calendar& c, double s) {
     const auto [lon_lo, lon_hi] = std::minmax_element(p->lon.begin(), p->lon.end());
     const auto [lat_lo, lat_hi] = std::minmax_element(p->lat.begin(), p->lat.end());
     m << " (release points span longitude " << *lon_lo << " to " << *lon_hi << ", latitude " << *lat_lo
-      << " to " << *lat_hi << ";";
+      << " to " << *lat_hi << "; ";
   } else {
     m << " (";
   }
-  m << " the currents grid covers longitude " << g.lon_min << " to " << g.lon_max << ", latitude " << g.lat_min
+  m << "the currents grid covers longitude " << g.lon_min << " to " << g.lon_max << ", latitude " << g.lat_min
     << " to " << g.lat_max << ", " << std::lround(100.0 * g.land_fraction) << " % of it land)"
     << ": the reef layer '" << study.reefs.layer.string()
     << "', its aggregations and the [currents] files must cover the same sea, with water where the reefs are";

@@ -553,8 +553,8 @@ template <bool Wrap, int Width>
     if (!b.walk_cached) {
       // One generator block serves steps 2m and 2m + 1: the even step's pair
       // into z0/z1, the odd step's into walk0/walk1.
-      plan.rng->template walk_normal4_batch<Width>(plan.event, b.source, b.particle, kLanes, plan.step >> 1, z0, z1, b.walk0,
-                                   b.walk1);
+      plan.rng->template walk_normal4_batch<Width>(plan.event, b.source, b.particle, kLanes, plan.step >> 1, z0, z1,
+                                                   b.walk0, b.walk1);
     }
     if ((plan.step & 1u) != 0) {  // an odd step: kept or just drawn, its pair is in walk0/walk1
       for (int l = 0; l < kLanes; ++l) z0[l] = b.walk0[l], z1[l] = b.walk1[l];

@@ -148,7 +148,7 @@ class CounterRandom {
   // m): even0/even1 the even step's deviates, odd0/odd1 the odd step's, bit
   // for bit as walk_normal2() gives them. `Width`: 32-bit lanes per vector
   // register of the caller's instruction set (4 SSE2; 8 AVX2 and 16 AVX-512,
-  // only from code compiled for them: philox_simd below).
+  // only from code compiled for them: philox_simd above).
   template <int Width = 4>
   void walk_normal4_batch(std::uint32_t event, const std::uint32_t* source, const std::uint32_t* particle,
                           int count, std::uint32_t pair, double* even0, double* even1, float* odd0,

@@ -162,8 +162,7 @@ struct FlowSampler {
       sum += w10 * south[2], wsum += w10 * south[3];
       sum += w01 * north[0], wsum += w01 * north[1];
       sum += w11 * north[2], wsum += w11 * north[3];
-      const bool known = h.inside & (wsum > 0);
-      out[p] = known ? sum / (known ? wsum : 1.0) : std::nan("");
+      out[p] = h.inside & (wsum > 0) ? sum / wsum : std::nan("");
     }
   }
 
