@@ -356,11 +356,9 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
           feeding[l] = feeds(environment, clock, p.development_s[idx[l]]);
         }
         scalars.at(lon, lat, m, temperature, chlorophyll);
-        for (int l = 0; l < m; ++l) chlorophyll[l] = feeding[l] ? chlorophyll[l] : 0.0;
-        for (int l = 0; l < m; ++l) rate[l] = Conditions{}.rate;
-        if (environment.temperature_on()) {
-          for (int l = 0; l < m; ++l) rate[l] = environment.development_rate(temperature[l]);
-        }
+        // (1 with temperature off: development_rate() says so, and the
+        // temperature is NaN then anyway)
+        for (int l = 0; l < m; ++l) rate[l] = environment.development_rate(temperature[l]);
         for (int l = 0; l < m; ++l) food_log2[l] = environment.food_log2(chlorophyll[l]);
         for (int l = 0; l < m; ++l) food_log2[l] = feeding[l] ? food_log2[l] : Conditions{}.food_log2;
       }

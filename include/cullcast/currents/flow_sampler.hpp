@@ -128,26 +128,18 @@ struct FlowSampler {
   // over the known values, NaN outside the grid or where none is known.
   double from_scalar_slice(const float* slice, double lon_deg, double lat_deg) const noexcept {
     CellHit h;
-    if (!locate(lon_deg, lat_deg, h)) return std::nan("");
-    double sum = 0, wsum = 0;
-    for (int dj = 0; dj < 2; ++dj) {
-      for (int di = 0; di < 2; ++di) {
-        const double w = (di ? h.fx : 1.0 - h.fx) * (dj ? h.fy : 1.0 - h.fy);
-        if (w == 0.0) continue;  // a node the point does not reach does not count, even if unknown
-        const float* node = slice + 2 * ((h.j + dj) * nx + h.i + di);
-        sum += w * node[0];
-        wsum += w * node[1];
-      }
-    }
-    return wsum > 0 ? sum / wsum : std::nan("");
+    locate(lon_deg, lat_deg, h);
+    double value;
+    from_scalar_slice(slice, &h, 1, &value);
+    return value;
   }
 
-  // from_scalar_slice() at n points located beforehand (locate(); `hits`),
-  // the same bits point by point, in one loop without branches: a term of
-  // weight 0 adds +0.0 to a sum that is never -0.0 (it starts at +0.0), so
-  // including it changes nothing, and locate() keeps a cell's far nodes on
-  // the grid. For batches of larvae (the grid stepper): successive points'
-  // loads and divisions then overlap.
+  // The same at n points located beforehand (locate(); `hits`), in one loop
+  // without branches, so that for a batch of larvae (the grid stepper)
+  // successive points' loads and divisions overlap. A node of weight 0 adds
+  // +0.0 to a sum that is never -0.0 (it starts at +0.0): a node the point
+  // does not reach does not count, even if unknown; locate() keeps a cell's
+  // far nodes on the grid.
   void from_scalar_slice(const float* slice, const CellHit* hits, int n, double* out) const noexcept {
     for (int p = 0; p < n; ++p) {
       const CellHit& h = hits[p];
