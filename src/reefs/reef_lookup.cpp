@@ -63,7 +63,6 @@ ReefLookup::ReefLookup(const ReefSet& reefs, double buffer_m) : buffer_m_(std::m
   lat0_ = lat_min - pad_lat - 2 * dlat_;
   nx_ = static_cast<int>(std::ceil((lon_max + pad_lon + 2 * dlon_ - lon0_) * inv_dlon_));
   ny_ = static_cast<int>(std::ceil((lat_max + pad_lat + 2 * dlat_ - lat0_) * inv_dlat_));
-  cells_.assign(static_cast<std::size_t>(nx_) * static_cast<std::size_t>(ny_), -1);
   row_m_per_deg_lon_.resize(static_cast<std::size_t>(ny_));
   row_m_per_deg_lat_.resize(static_cast<std::size_t>(ny_));
   for (int j = 0; j < ny_; ++j) {
@@ -78,6 +77,24 @@ ReefLookup::ReefLookup(const ReefSet& reefs, double buffer_m) : buffer_m_(std::m
   };
   auto row_of = [&](double lat) {
     return std::clamp(static_cast<int>(std::floor((lat - lat0_) * inv_dlat_)), 0, ny_ - 1);
+  };
+
+  // Cells are stored block by block (kBlock x kBlock), a block only once a
+  // cell of it gets a code other than "none": the build never touches the
+  // whole raster, most of which is open water. Blocks come in the order
+  // they are first written; the end puts them back in block order.
+  block_nx_ = (nx_ + kBlock - 1) / kBlock;
+  const int block_ny = (ny_ + kBlock - 1) / kBlock;
+  constexpr std::uint32_t kNoSlot = std::numeric_limits<std::uint32_t>::max();
+  block_slot_.assign(static_cast<std::size_t>(block_nx_) * static_cast<std::size_t>(block_ny), kNoSlot);
+  std::vector<std::int32_t> written;  // blocks in order of first write
+  auto cell = [&](int c, int r) -> std::int32_t& {
+    std::uint32_t& slot = block_slot_[block_of(c, r)];
+    if (slot == kNoSlot) {
+      slot = static_cast<std::uint32_t>(written.size() / kBlockCells);
+      written.resize(written.size() + kBlockCells, -1);
+    }
+    return written[static_cast<std::size_t>(slot) * kBlockCells + within_block(c, r)];
   };
 
   std::vector<std::vector<std::int32_t>> build_lists;
@@ -168,8 +185,7 @@ ReefLookup::ReefLookup(const ReefSet& reefs, double buffer_m) : buffer_m_(std::m
           always = inside_row(static_cast<int>(k), lon0_ + (c + 0.5) * dlon_, lat0_ + (r + 0.5) * dlat_, r);
           if (!always) continue;
         }
-        std::int32_t& code = cells_[static_cast<std::size_t>(r) * static_cast<std::size_t>(nx_) +
-                                    static_cast<std::size_t>(c)];
+        std::int32_t& code = cell(c, r);  // never left "none" below
         const std::int32_t entry = static_cast<std::int32_t>(2 * k + (always ? 0 : 1));
         if (code >= 0) continue;  // a lower-index reef covers the whole cell
         if (code == -1) {
@@ -189,35 +205,22 @@ ReefLookup::ReefLookup(const ReefSet& reefs, double buffer_m) : buffer_m_(std::m
   }
 
   // --- coarse occupancy: most look-ups are over open water, and this small
-  // table (one byte per kBlock x kBlock cells) answers them from cache -------
-  block_nx_ = (nx_ + kBlock - 1) / kBlock;
-  const int block_ny = (ny_ + kBlock - 1) / kBlock;
-  occupied_.assign(static_cast<std::size_t>(block_nx_) * static_cast<std::size_t>(block_ny), 0);
-  for (int r = 0; r < ny_; ++r) {
-    for (int c = 0; c < nx_; ++c) {
-      if (cells_[static_cast<std::size_t>(r) * static_cast<std::size_t>(nx_) + static_cast<std::size_t>(c)] != -1) {
-        occupied_[block_of(c, r)] = 1;
-      }
-    }
-  }
-  // --- only the occupied blocks' cells are kept, block by block: a larva's
-  // neighbours in space then find theirs in the same few cache lines, where
-  // rows of the whole raster lie a page or more apart ------------------------
-  block_slot_.assign(occupied_.size(), 0);
+  // table (one byte per kBlock x kBlock cells) answers them from cache. The
+  // occupied blocks' cells are kept in block order: a larva's neighbours in
+  // space then find theirs in the same few cache lines -------------------------
+  occupied_.assign(block_slot_.size(), 0);
+  cells_.assign(written.size(), -1);
   std::uint32_t slots = 0;
-  for (std::size_t b = 0; b < occupied_.size(); ++b) {
-    if (occupied_[b]) block_slot_[b] = slots++;
-  }
-  std::vector<std::int32_t> blocks(static_cast<std::size_t>(slots) * kBlockCells, -1);
-  for (int r = 0; r < ny_; ++r) {
-    for (int c = 0; c < nx_; ++c) {
-      const std::size_t b = block_of(c, r);
-      if (!occupied_[b]) continue;
-      blocks[static_cast<std::size_t>(block_slot_[b]) * kBlockCells + within_block(c, r)] =
-          cells_[static_cast<std::size_t>(r) * static_cast<std::size_t>(nx_) + static_cast<std::size_t>(c)];
+  for (std::size_t b = 0; b < block_slot_.size(); ++b) {
+    if (block_slot_[b] == kNoSlot) {
+      block_slot_[b] = 0;
+      continue;
     }
+    occupied_[b] = 1;
+    std::copy_n(written.begin() + static_cast<std::ptrdiff_t>(block_slot_[b] * kBlockCells), kBlockCells,
+                cells_.begin() + static_cast<std::ptrdiff_t>(slots * kBlockCells));
+    block_slot_[b] = slots++;
   }
-  cells_ = std::move(blocks);
 
   // --- flatten candidate lists -----------------------------------------------
   list_start_.reserve(build_lists.size() + 1);

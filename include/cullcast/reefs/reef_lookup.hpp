@@ -6,8 +6,8 @@
 // How it works (docs/reefs.md, "Look-up"):
 // - a regular lon/lat raster over all reefs (plus the buffer); cell side about
 //   1/8 of the square root of the smallest reef's area, coarser if the raster
-//   would exceed 8 M cells (32 MB while it is built; then only its 16 x 16
-//   blocks holding some reef are kept, block by block, for locality);
+//   would exceed 8 M cells; only its 16 x 16 blocks holding some reef are
+//   stored (also while it is built), block by block, for locality;
 // - each cell holds "no reef", "inside reef k", or a short list of candidate
 //   reefs, lowest index first, each "always" or "check exactly";
 // - "check exactly" = even-odd crossing test (holes and multipolygons
