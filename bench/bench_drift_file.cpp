@@ -10,6 +10,7 @@
 //                    [--steps 144] [--dt 600] [--kh 1] [--threads 1] [--precompetent-days 0]
 //                    [--competent-days 40] [--mortality-per-day 0.1] [--seed 42]
 //                    [--out FINAL.bin] [--write-reef-raster RASTER.bin --raster-factor 8]
+//                    [--background-reads auto|on|off]
 //
 // Particle file: little-endian float64 pairs (lon, lat), degrees; every
 // particle is released at the first frame, at depth 0 m.
@@ -59,6 +60,7 @@ struct Options {
   double mortality_per_day = 0.1;     // 1/day
   std::uint64_t seed = 42;
   int raster_factor = 8;              // raster cells per currents-grid spacing
+  std::string background = "auto";    // next frames decoded on a spare thread: on, off, auto (as disperse)
 };
 
 std::vector<std::string> split(const std::string& s) {
@@ -89,6 +91,7 @@ Options parse(int argc, char** argv) {
     else if (key == "--competent-days") o.competent_days = std::stod(val);
     else if (key == "--mortality-per-day") o.mortality_per_day = std::stod(val);
     else if (key == "--seed") o.seed = std::stoull(val);
+    else if (key == "--background-reads") o.background = val;
     else throw InputError("bench_drift_file: unknown option " + key);
   }
   if (o.currents.empty() || o.reefs.empty())
@@ -144,6 +147,7 @@ int main(int argc, char** argv) try {
   omp_set_num_threads(o.threads);
 
   currents::CurrentField field = currents::CurrentField::open_files(o.currents);
+  if (o.background != "auto") field.set_background_reads(o.background == "on");
   study::ReefSettings rs;
   rs.layer = o.reefs;
   const reefs::ReefSet reef_set = reefs::ReefSet::load(rs);
