@@ -25,6 +25,7 @@
 #include <string>
 #include <vector>
 
+#include "bench_args.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_step.hpp"
 #include "cullcast/drift/grid_stepper.hpp"
@@ -135,8 +136,11 @@ struct BenchFields {
 }  // namespace
 
 int main(int argc, char** argv) {
-  const std::size_t n = argc > 1 ? std::stoul(argv[1]) : 1000000;
-  const std::uint32_t steps = argc > 2 ? static_cast<std::uint32_t>(std::stoul(argv[2])) : 36;
+  constexpr const char* kUsage = "bench_drift [particles=1000000] [steps=36] [only-production]";
+  bench::help_if_asked(argc, argv, kUsage);
+  const auto n = static_cast<std::size_t>(bench::number_arg(argc, argv, 1, 1000000, 1, 1e9, kUsage));
+  const auto steps = static_cast<std::uint32_t>(bench::number_arg(argc, argv, 2, 36, 1, 1e6, kUsage));
+  if (argc > 3 && std::string(argv[3]) != "only-production") bench::usage_and_exit(kUsage, 2);
   const fs::path dir = fs::temp_directory_path() / "cullcast-bench";
   std::printf("writing a %zu x %zu x %zu-frame grid ...\n", kNx, kNy, kFrames);
   const fs::path file = write_grid(dir);

@@ -71,34 +71,45 @@ std::vector<std::string> split(const std::string& s) {
   return parts;
 }
 
+void set_option(Options& o, const std::string& key, const std::string& val) {
+  if (key == "--currents") o.currents = split(val);
+  else if (key == "--reefs") o.reefs = val;
+  else if (key == "--particles") o.particles = val;
+  else if (key == "--out") o.out = val;
+  else if (key == "--write-reef-raster") o.raster = val;
+  else if (key == "--raster-factor") o.raster_factor = std::stoi(val);
+  else if (key == "--steps") o.steps = static_cast<std::uint32_t>(std::stoul(val));
+  else if (key == "--dt") o.dt_s = std::stod(val);
+  else if (key == "--kh") o.kh_m2_s = std::stod(val);
+  else if (key == "--threads") o.threads = std::stoi(val);
+  else if (key == "--precompetent-days") o.precompetent_days = std::stod(val);
+  else if (key == "--competent-days") o.competent_days = std::stod(val);
+  else if (key == "--mortality-per-day") o.mortality_per_day = std::stod(val);
+  else if (key == "--seed") o.seed = std::stoull(val);
+  else if (key == "--background-reads") o.background = val;
+  else throw InputError("unknown option " + key);
+}
+
 Options parse(int argc, char** argv) {
   Options o;
   for (int k = 1; k < argc; ++k) {
     const std::string key = argv[k];
-    if (k + 1 >= argc) throw InputError("bench_drift_file: option " + key + " needs a value");
+    if (k + 1 >= argc) throw InputError("option " + key + " needs a value");
     const std::string val = argv[++k];
-    if (key == "--currents") o.currents = split(val);
-    else if (key == "--reefs") o.reefs = val;
-    else if (key == "--particles") o.particles = val;
-    else if (key == "--out") o.out = val;
-    else if (key == "--write-reef-raster") o.raster = val;
-    else if (key == "--raster-factor") o.raster_factor = std::stoi(val);
-    else if (key == "--steps") o.steps = static_cast<std::uint32_t>(std::stoul(val));
-    else if (key == "--dt") o.dt_s = std::stod(val);
-    else if (key == "--kh") o.kh_m2_s = std::stod(val);
-    else if (key == "--threads") o.threads = std::stoi(val);
-    else if (key == "--precompetent-days") o.precompetent_days = std::stod(val);
-    else if (key == "--competent-days") o.competent_days = std::stod(val);
-    else if (key == "--mortality-per-day") o.mortality_per_day = std::stod(val);
-    else if (key == "--seed") o.seed = std::stoull(val);
-    else if (key == "--background-reads") o.background = val;
-    else throw InputError("bench_drift_file: unknown option " + key);
+    try {
+      set_option(o, key, val);
+    } catch (const std::logic_error&) {  // std::stoi and kin: not a number, or out of range
+      throw InputError("option " + key + " expected a number, found \"" + val + "\"");
+    }
   }
   if (o.currents.empty() || o.reefs.empty())
-    throw InputError("bench_drift_file: --currents and --reefs are required");
+    throw InputError("--currents and --reefs are required");
   if (o.raster.empty() && o.particles.empty())
-    throw InputError("bench_drift_file: --particles is required (or --write-reef-raster)");
-  if (o.raster_factor < 1) throw InputError("bench_drift_file: --raster-factor must be >= 1");
+    throw InputError("--particles is required (or --write-reef-raster)");
+  if (o.raster_factor < 1) throw InputError("--raster-factor must be >= 1");
+  if (o.threads < 1) throw InputError("--threads must be >= 1");
+  if (o.background != "auto" && o.background != "on" && o.background != "off")
+    throw InputError("--background-reads expected auto, on or off, found \"" + o.background + "\"");
   return o;
 }
 

@@ -6,6 +6,7 @@
 #include <cstdlib>
 #include <random>
 
+#include "bench_args.hpp"
 #include "cullcast/network/network_graph.hpp"
 #include "cullcast/network/persistence.hpp"
 #include "cullcast/network/reef_metrics.hpp"
@@ -13,8 +14,10 @@
 using namespace cullcast::network;
 
 int main(int argc, char** argv) {
-  const int n = argc > 1 ? std::atoi(argv[1]) : 3000;      // reefs
-  const int links = argc > 2 ? std::atoi(argv[2]) : 30;    // links per source
+  constexpr const char* kUsage = "bench_network [reefs=3000] [links_per_source=30]";
+  cullcast::bench::help_if_asked(argc, argv, kUsage);
+  const int n = static_cast<int>(cullcast::bench::number_arg(argc, argv, 1, 3000, 2, 1e6, kUsage));
+  const int links = static_cast<int>(cullcast::bench::number_arg(argc, argv, 2, 30, 1, 1e4, kUsage));
   std::mt19937 gen(1);
   std::uniform_real_distribution<double> u(0.0, 1.0);
   std::vector<Eigen::Triplet<double>> t;

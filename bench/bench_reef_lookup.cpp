@@ -8,6 +8,7 @@
 #include <random>
 #include <vector>
 
+#include "bench_args.hpp"
 #include "cullcast/reefs/reef_lookup.hpp"
 
 using namespace cullcast::reefs;
@@ -26,8 +27,10 @@ Ring star(double lon, double lat, double r, int n, double wobble, int lobes, boo
 }  // namespace
 
 int main(int argc, char** argv) {
-  const long points = argc > 1 ? std::atol(argv[1]) : 20000000;
-  const double buffer_m = argc > 2 ? std::atof(argv[2]) : 0.0;
+  constexpr const char* kUsage = "bench_reef_lookup [points=20000000] [buffer_m=0]";
+  cullcast::bench::help_if_asked(argc, argv, kUsage);
+  const auto points = static_cast<long>(cullcast::bench::number_arg(argc, argv, 1, 20000000, 0, 1e10, kUsage));
+  const double buffer_m = cullcast::bench::number_arg(argc, argv, 2, 0.0, 0, 1e5, kUsage);
   std::mt19937_64 gen(2025);
   std::uniform_real_distribution<double> u(0, 1);
   std::vector<Reef> reefs;
