@@ -2,7 +2,8 @@
 // linear-in-time sampling, random walk, land check, reef look-up, settlement
 // test, ageing, mortality, fate bookkeeping) on a 600 x 400 hourly grid
 // (~1 km) with 1 million particles. Reports particle-steps per second for 1
-// and 2 threads, bytes per particle and the bytes of current frames held.
+// and 2 threads (three runs each: best, median, worst), bytes per particle
+// and the bytes of current frames held.
 //
 // Then, on 1 thread, the optional physics of issue 6: varying Kh
 // (Smagorinsky, drift-corrected walk), 3-D depth (Kv walk, reflection) and
@@ -206,6 +207,7 @@ int main(int argc, char** argv) {
     }
     std::printf("threads %d, %-34s %6.1f million particle-steps/s wall, %6.1f per CPU-second\n", threads, label,
                 particle_steps / busy / 1e6, particle_steps / cpu / 1e6);
+    return particle_steps / busy / 1e6;
   };
   std::printf("grid stepper kernel: %s (CULLCAST_VECTOR_ISA caps it)\n",
               drift::GridStepper::isa_name(drift::GridStepper(field, earth).instruction_set()));
@@ -215,10 +217,23 @@ int main(int argc, char** argv) {
             clock);
     return 0;
   }
-  for (int threads : {1, 2}) {
-    measure(threads, "production step (grid stepper):", true, s, clock);
-    measure(threads, "generic drift_step:", false, s, clock);
+  // The production step three times per thread count, interleaved: on a
+  // shared machine one run can lose a fifth of its speed to other guests,
+  // so the best and the median of the three are both reported.
+  constexpr int kRepeats = 3;
+  std::vector<double> production[2];
+  for (int r = 0; r < kRepeats; ++r) {
+    for (int threads : {1, 2}) {
+      production[threads - 1].push_back(measure(threads, "production step (grid stepper):", true, s, clock));
+    }
   }
+  for (int threads : {1, 2}) {
+    std::vector<double>& rates = production[threads - 1];
+    std::sort(rates.begin(), rates.end());
+    std::printf("threads %d, production step, %d runs: best %.1f, median %.1f, worst %.1f million particle-steps/s\n",
+                threads, kRepeats, rates.back(), rates[rates.size() / 2], rates.front());
+  }
+  for (int threads : {1, 2}) measure(threads, "generic drift_step:", false, s, clock);
   // Where the time goes (1 thread): without the random walk, without reef
   // look-ups (larvae not yet competent), without both.
   drift::StepSettings no_walk = s;

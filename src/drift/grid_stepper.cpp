@@ -55,6 +55,29 @@ struct SlicedScalars {
   }
 };
 
+// Whether every one of n fates is `drifting` (a loop the compiler vectorises).
+bool all_drifting(const Fate* fate, std::int64_t n) noexcept {
+  unsigned other = 0;
+  for (std::int64_t i = 0; i < n; ++i) other |= static_cast<unsigned>(fate[i] != Fate::drifting);
+  return other == 0;
+}
+
+// A batch's inputs from kLanes consecutive particles from `first`.
+void gather_run(const ParticleSet& p, std::int64_t first, lanes::Batch& b) noexcept {
+  std::copy_n(p.lon.data() + first, kLanes, b.lon0);
+  std::copy_n(p.lat.data() + first, kLanes, b.lat0);
+  std::copy_n(p.source.data() + first, kLanes, b.source);
+  std::copy_n(p.index.data() + first, kLanes, b.particle);
+}
+
+// Their kept walk deviates (pairs, interleaved).
+void walk_run(const float* __restrict pairs, lanes::Batch& b) noexcept {
+  for (int l = 0; l < kLanes; ++l) {
+    b.walk0[l] = pairs[2 * l];
+    b.walk1[l] = pairs[2 * l + 1];
+  }
+}
+
 // A reef look-up over open water.
 struct OpenWater {
   int reef_at(double, double) const noexcept { return -1; }
@@ -297,48 +320,74 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
     std::int64_t drifting[kChunk];
     bool fresh[kChunk];  // released this step: no kept walk deviates
     int count = 0;
-    const std::int64_t chunk_end = std::min(n, (chunk + 1) * kChunk);
-    for (std::int64_t i = chunk * kChunk; i < chunk_end; ++i) {
-      Fate fate = p.fate[i];
-      if (fate == Fate::waiting) {
-        if (p.release_s[i] > t0) continue;
-        p.fate[i] = Fate::drifting;
-        p.release_s[i] = static_cast<float>(t0);
-        ++released;
-        fate = Fate::drifting;
-        fresh[count] = true;
-        drifting[count++] = i;
-        continue;
+    bool any_fresh = false;
+    const std::int64_t chunk_begin = chunk * kChunk;
+    const std::int64_t chunk_end = std::min(n, chunk_begin + kChunk);
+    if (all_drifting(p.fate.data() + chunk_begin, chunk_end - chunk_begin)) {
+      // The common case between releases and the first settlements.
+      for (std::int64_t i = chunk_begin; i < chunk_end; ++i) drifting[count++] = i;
+    } else {
+      for (std::int64_t i = chunk_begin; i < chunk_end; ++i) {
+        Fate fate = p.fate[i];
+        if (fate == Fate::waiting) {
+          if (p.release_s[i] > t0) continue;
+          p.fate[i] = Fate::drifting;
+          p.release_s[i] = static_cast<float>(t0);
+          ++released;
+          fate = Fate::drifting;
+          fresh[count] = true;
+          any_fresh = true;
+          drifting[count++] = i;
+          continue;
+        }
+        if (fate == Fate::drifting) fresh[count] = false, drifting[count++] = i;
       }
-      if (fate == Fate::drifting) fresh[count] = false, drifting[count++] = i;
     }
     particle_steps += static_cast<std::uint64_t>(count);
     for (int first = 0; first < count; first += kLanes) {
       const std::int64_t* idx = drifting + first;
       const int m = std::min<int>(kLanes, count - first);
+      // A full batch of neighbours in the array (most of them): plain
+      // contiguous loads, the same values.
+      const bool run = m == kLanes && idx[kLanes - 1] - idx[0] == kLanes - 1;
 
       lanes::Batch b;
-      for (int l = 0; l < kLanes; ++l) {
-        const std::int64_t i = idx[l < m ? l : 0];  // spare lanes repeat lane 0
-        b.lon0[l] = p.lon[i];
-        b.lat0[l] = p.lat[i];
-        b.source[l] = p.source[i];
-        b.particle[l] = p.index[i];
+      if (run) {
+        gather_run(p, idx[0], b);
+      } else {
+        for (int l = 0; l < kLanes; ++l) {
+          const std::int64_t i = idx[l < m ? l : 0];  // spare lanes repeat lane 0
+          b.lon0[l] = p.lon[i];
+          b.lat0[l] = p.lat[i];
+          b.source[l] = p.source[i];
+          b.particle[l] = p.index[i];
+        }
       }
       b.walk_cached = kept;
-      for (int l = 0; l < m; ++l) b.walk_cached = b.walk_cached && !fresh[first + l];
+      if (any_fresh) {
+        for (int l = 0; l < m; ++l) b.walk_cached = b.walk_cached && !fresh[first + l];
+      }
       if (b.walk_cached) {
-        for (int l = 0; l < kLanes; ++l) {
-          const std::int64_t i = idx[l < m ? l : 0];
-          b.walk0[l] = walk_next[2 * i];
-          b.walk1[l] = walk_next[2 * i + 1];
+        if (run) {
+          walk_run(walk_next + 2 * idx[0], b);
+        } else {
+          for (int l = 0; l < kLanes; ++l) {
+            const std::int64_t i = idx[l < m ? l : 0];
+            b.walk0[l] = walk_next[2 * i];
+            b.walk1[l] = walk_next[2 * i + 1];
+          }
         }
       }
       advance(g, plan, b);
       if (keep_next) {
-        for (int l = 0; l < m; ++l) {
-          walk_next[2 * idx[l]] = b.walk0[l];
-          walk_next[2 * idx[l] + 1] = b.walk1[l];
+        if (run) {
+          float* __restrict pairs = walk_next + 2 * idx[0];
+          for (int l = 0; l < kLanes; ++l) pairs[2 * l] = b.walk0[l], pairs[2 * l + 1] = b.walk1[l];
+        } else {
+          for (int l = 0; l < m; ++l) {
+            walk_next[2 * idx[l]] = b.walk0[l];
+            walk_next[2 * idx[l] + 1] = b.walk1[l];
+          }
         }
       }
 
