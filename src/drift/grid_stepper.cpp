@@ -317,7 +317,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
                                                         released, settled, died, stranded, lost)       \
     reduction(max : max_speed)
   for (std::int64_t chunk = 0; chunk < chunks; ++chunk) {
-    std::int64_t drifting[kChunk];
+    std::int64_t drifting[kChunk + kLanes];  // padded: a last, partial batch's spare lanes repeat its lane 0
     bool fresh[kChunk];  // released this step: no kept walk deviates
     int count = 0;
     bool any_fresh = false;
@@ -344,6 +344,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
       }
     }
     particle_steps += static_cast<std::uint64_t>(count);
+    if (count > 0) std::fill_n(drifting + count, kLanes, drifting[(count - 1) / kLanes * kLanes]);
     for (int first = 0; first < count; first += kLanes) {
       const std::int64_t* idx = drifting + first;
       const int m = std::min<int>(kLanes, count - first);
@@ -356,7 +357,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         gather_run(p, idx[0], b);
       } else {
         for (int l = 0; l < kLanes; ++l) {
-          const std::int64_t i = idx[l < m ? l : 0];  // spare lanes repeat lane 0
+          const std::int64_t i = idx[l];
           b.lon0[l] = p.lon[i];
           b.lat0[l] = p.lat[i];
           b.source[l] = p.source[i];
@@ -372,7 +373,7 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
           walk_run(walk_next + 2 * idx[0], b);
         } else {
           for (int l = 0; l < kLanes; ++l) {
-            const std::int64_t i = idx[l < m ? l : 0];
+            const std::int64_t i = idx[l];
             b.walk0[l] = walk_next[2 * i];
             b.walk1[l] = walk_next[2 * i + 1];
           }
