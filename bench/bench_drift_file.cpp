@@ -32,6 +32,7 @@
 #include <cstdint>
 #include <cstdio>
 #include <fstream>
+#include <functional>
 #include <iostream>
 #include <sstream>
 #include <string>
@@ -191,6 +192,8 @@ int main(int argc, char** argv) try {
 
   // As run_drift: the grid stepper where it applies (uniform regular grid).
   drift::GridStepper stepper(field, earth);
+  const drift::LarvalEnvironment environment(larvae, false, false);
+  const std::function<void()> read_ahead = [&field] { field.read_pending(); };
   const bool on_grid = drift::GridStepper::applies(field, p);
   std::vector<std::uint8_t> now;
   drift::StepTally total;
@@ -202,7 +205,7 @@ int main(int argc, char** argv) try {
     field.prepare(t0, t0 + s.dt_s);
     const auto b = std::chrono::steady_clock::now();
     const std::clock_t cpu0 = std::clock();
-    const auto tally = on_grid ? stepper.step(p, k, s, clock, lookup, rng, now)
+    const auto tally = on_grid ? stepper.step(p, k, s, clock, lookup, rng, now, environment, read_ahead)
                                : drift::drift_step(p, k, s, clock, earth, field, lookup, rng, now);
     const auto c = std::chrono::steady_clock::now();
     step_cpu_s += static_cast<double>(std::clock() - cpu0) / CLOCKS_PER_SEC;

@@ -8,6 +8,7 @@
 #include <cmath>
 #include <deque>
 #include <exception>
+#include <chrono>
 #include <future>
 #include <limits>
 #include <map>
@@ -157,16 +158,25 @@ struct CurrentField::Impl {
   std::unique_ptr<NcFile> open_file;
   std::vector<double> buffer;
 
-  // The read-ahead interval, decoded on a background thread while the
-  // larvae move (prepare()). While it runs, that thread alone uses the
-  // NetCDF library, the open file and `buffer`; every other path that reads
-  // joins it first (settle()).
+  // The read-ahead interval, decoded while the larvae move (prepare()):
+  // on a background thread of its own, or, with no processor to spare, as
+  // pending work (a deferred task) that read_pending() runs on one thread
+  // of the caller's parallel step, else the prepare() that needs it. While
+  // it runs, that thread alone uses the NetCDF library, the open file and
+  // `buffer`; every other path that reads joins it first (settle()).
   struct Ahead {
     std::size_t k = 0;        // interval between frames k and k+1
     Frame first, second;      // frame k (moved in, or decoded there) and k+1
     bool have_first = false;
     Block block;
     std::future<void> done;   // rethrows the decoder's error
+    // Pending: deferred and not run yet (nothing to wait for; dropping it
+    // costs no decoding).
+    bool pending() const { return done.valid() && done.wait_for(std::chrono::seconds(0)) == std::future_status::deferred; }
+    // Waits for a running or finished decoder; leaves a pending one unrun.
+    void join() const {
+      if (done.valid() && !pending()) done.wait();
+    }
   };
   // Unset: decode in the background only when a processor is spare
   // (OpenMP threads < usable processors): on a fully used machine the
@@ -178,7 +188,7 @@ struct CurrentField::Impl {
   std::unique_ptr<Ahead> ahead;
 
   ~Impl() {
-    if (ahead && ahead->done.valid()) ahead->done.wait();
+    if (ahead) ahead->join();
     const std::lock_guard<std::recursive_mutex> lock(netcdf_mutex());
     open_file.reset();
   }
@@ -186,7 +196,7 @@ struct CurrentField::Impl {
   // Waits for the background decoder and drops its interval (errors included).
   void discard_ahead() {
     if (!ahead) return;
-    if (ahead->done.valid()) ahead->done.wait();
+    ahead->join();
     spare.push_back(std::move(ahead->block));
     ahead.reset();
   }
@@ -1177,9 +1187,8 @@ void CurrentField::prepare(double t0_s, double t1_s) {
   if (m.spare.size() > 2) m.spare.resize(2);
   size_t next = m.blocks.empty() ? a : m.blocks.back().k + 1;
   // Moving forward with read-ahead: the last interval of the window (one not
-  // needed yet) goes to a background thread.
-  const bool read_behind =
-      background_reads() && forward && n > 1 && last_interval >= needed_end && !m.ahead && next <= last_interval;
+  // needed yet) goes to a background thread, or waits as pending work.
+  const bool read_behind = forward && n > 1 && last_interval >= needed_end && !m.ahead && next <= last_interval;
   const size_t sync_end = m.ahead ? m.ahead->k : (read_behind ? last_interval : last_interval + 1);
   for (; next < sync_end; ++next) {
     Block blk;
@@ -1213,7 +1222,8 @@ void CurrentField::prepare(double t0_s, double t1_s) {
     m.last_index = static_cast<std::size_t>(-1);
     Impl::Ahead* j = job.get();
     Impl* impl = &m;
-    job->done = std::async(std::launch::async, [impl, j, scalars] {
+    const auto launch = background_reads() ? std::launch::async : std::launch::deferred;  // deferred: read_pending()
+    job->done = std::async(launch, [impl, j, scalars] {
       // HDF5 keeps its error settings per thread: NetCDF switched the
       // printing of its internal (expected) errors off on the main thread
       // only. Without this, probing for optional attributes would print
@@ -1310,7 +1320,14 @@ bool CurrentField::scalar_slice(ScalarKind kind, double t_s, double depth_m, std
 
 void CurrentField::settle() {
   Impl& m = *impl_;
-  if (m.ahead && m.ahead->done.valid()) m.ahead->done.wait();
+  if (m.ahead) m.ahead->join();
+}
+
+bool CurrentField::read_pending() {
+  Impl& m = *impl_;
+  if (!m.ahead || !m.ahead->pending()) return false;
+  m.ahead->done.wait();  // runs the deferred decoding here; its error stays in it
+  return true;
 }
 
 bool CurrentField::background_reads() const {

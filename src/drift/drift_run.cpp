@@ -466,11 +466,14 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
       first_step = resumed->next_step;
     }
     auto last_report = Clock::now();
+    // The next frames, decoded by one of the step's threads (when no
+    // processor is spare for the field's background decoder).
+    const std::function<void()> read_ahead = [&field] { field.read_pending(); };
     for (std::uint32_t k = first_step; k < steps; ++k) {
       const double t0 = step.event_start_s + k * step.dt_s;
       field.prepare(t0, t0 + step.dt_s);
       const StepTally tally =
-          on_grid      ? grid_stepper.step(p, k, step, clock, lookup, rng, settled_now, extras.environment)
+          on_grid      ? grid_stepper.step(p, k, step, clock, lookup, rng, settled_now, extras.environment, read_ahead)
           : use_extras ? drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now, extras)
                        : drift_step(p, k, step, clock, earth, field, lookup, rng, settled_now);
       if (tracks) tracks->after_step(k, t0 + step.dt_s, step.event_start_s, p);

@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdlib>
+#include <exception>
 #include <string>
 #include <utility>
 
@@ -224,7 +225,8 @@ void GridStepper::mark_reef_nodes(const reefs::ReefLookup& reefs) {
 
 StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
                             const reefs::ReefLookup& reefs, const CounterRandom& rng,
-                            std::vector<std::uint8_t>& settled_now, const LarvalEnvironment& environment) {
+                            std::vector<std::uint8_t>& settled_now, const LarvalEnvironment& environment,
+                            const std::function<void()>& side_job) {
   const double t0 = step * s.dt_s;  // seconds since the event start
   const double t0_model = s.event_start_s + t0;
   const double t1 = t0 + s.dt_s;
@@ -313,156 +315,172 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
 
   // Chunks handed out as threads finish: finished larvae cluster along the
   // array (drift_step.hpp says why the schedule changes no result).
-#pragma omp parallel for schedule(dynamic, 1) if (n > 4096) reduction(+ : particle_steps, land_contacts, \
-                                                        released, settled, died, stranded, lost)       \
-    reduction(max : max_speed)
-  for (std::int64_t chunk = 0; chunk < chunks; ++chunk) {
-    std::int64_t drifting[kChunk + kLanes];  // padded: a last, partial batch's spare lanes repeat its lane 0
-    bool fresh[kChunk];  // released this step: no kept walk deviates
-    int count = 0;
-    bool any_fresh = false;
-    const std::int64_t chunk_begin = chunk * kChunk;
-    const std::int64_t chunk_end = std::min(n, chunk_begin + kChunk);
-    if (all_drifting(p.fate.data() + chunk_begin, chunk_end - chunk_begin)) {
-      // The common case between releases and the first settlements.
-      for (std::int64_t i = chunk_begin; i < chunk_end; ++i) drifting[count++] = i;
-    } else {
-      for (std::int64_t i = chunk_begin; i < chunk_end; ++i) {
-        Fate fate = p.fate[i];
-        if (fate == Fate::waiting) {
-          if (p.release_s[i] > t0) continue;
-          p.fate[i] = Fate::drifting;
-          p.release_s[i] = static_cast<float>(t0);
-          ++released;
-          fate = Fate::drifting;
-          fresh[count] = true;
-          any_fresh = true;
-          drifting[count++] = i;
-          continue;
+  // One thread first runs the side job (decoding the next currents frames),
+  // then joins the others on the chunks; none waits for it to start.
+  std::exception_ptr side_error;
+#pragma omp parallel if (n > 4096) reduction(+ : particle_steps, land_contacts, released, settled, died, stranded, \
+                                                 lost) reduction(max : max_speed)
+  {
+    if (side_job) {
+#pragma omp single nowait
+      {
+        try {
+          side_job();
+        } catch (...) {
+          side_error = std::current_exception();
         }
-        if (fate == Fate::drifting) fresh[count] = false, drifting[count++] = i;
       }
     }
-    particle_steps += static_cast<std::uint64_t>(count);
-    if (count > 0) std::fill_n(drifting + count, kLanes, drifting[(count - 1) / kLanes * kLanes]);
-    for (int first = 0; first < count; first += kLanes) {
-      const std::int64_t* idx = drifting + first;
-      const int m = std::min<int>(kLanes, count - first);
-      // A full batch of neighbours in the array (most of them): plain
-      // contiguous loads, the same values.
-      const bool run = m == kLanes && idx[kLanes - 1] - idx[0] == kLanes - 1;
-
-      lanes::Batch b;
-      if (run) {
-        gather_run(p, idx[0], b);
+#pragma omp for schedule(dynamic, 1)
+    for (std::int64_t chunk = 0; chunk < chunks; ++chunk) {
+      std::int64_t drifting[kChunk + kLanes];  // padded: a last, partial batch's spare lanes repeat its lane 0
+      bool fresh[kChunk];  // released this step: no kept walk deviates
+      int count = 0;
+      bool any_fresh = false;
+      const std::int64_t chunk_begin = chunk * kChunk;
+      const std::int64_t chunk_end = std::min(n, chunk_begin + kChunk);
+      if (all_drifting(p.fate.data() + chunk_begin, chunk_end - chunk_begin)) {
+        // The common case between releases and the first settlements.
+        for (std::int64_t i = chunk_begin; i < chunk_end; ++i) drifting[count++] = i;
       } else {
-        for (int l = 0; l < kLanes; ++l) {
-          const std::int64_t i = idx[l];
-          b.lon0[l] = p.lon[i];
-          b.lat0[l] = p.lat[i];
-          b.source[l] = p.source[i];
-          b.particle[l] = p.index[i];
+        for (std::int64_t i = chunk_begin; i < chunk_end; ++i) {
+          Fate fate = p.fate[i];
+          if (fate == Fate::waiting) {
+            if (p.release_s[i] > t0) continue;
+            p.fate[i] = Fate::drifting;
+            p.release_s[i] = static_cast<float>(t0);
+            ++released;
+            fate = Fate::drifting;
+            fresh[count] = true;
+            any_fresh = true;
+            drifting[count++] = i;
+            continue;
+          }
+          if (fate == Fate::drifting) fresh[count] = false, drifting[count++] = i;
         }
       }
-      b.walk_cached = kept;
-      if (any_fresh) {
-        for (int l = 0; l < m; ++l) b.walk_cached = b.walk_cached && !fresh[first + l];
-      }
-      if (b.walk_cached) {
+      particle_steps += static_cast<std::uint64_t>(count);
+      if (count > 0) std::fill_n(drifting + count, kLanes, drifting[(count - 1) / kLanes * kLanes]);
+      for (int first = 0; first < count; first += kLanes) {
+        const std::int64_t* idx = drifting + first;
+        const int m = std::min<int>(kLanes, count - first);
+        // A full batch of neighbours in the array (most of them): plain
+        // contiguous loads, the same values.
+        const bool run = m == kLanes && idx[kLanes - 1] - idx[0] == kLanes - 1;
+
+        lanes::Batch b;
         if (run) {
-          walk_run(walk_next + 2 * idx[0], b);
+          gather_run(p, idx[0], b);
         } else {
           for (int l = 0; l < kLanes; ++l) {
             const std::int64_t i = idx[l];
-            b.walk0[l] = walk_next[2 * i];
-            b.walk1[l] = walk_next[2 * i + 1];
+            b.lon0[l] = p.lon[i];
+            b.lat0[l] = p.lat[i];
+            b.source[l] = p.source[i];
+            b.particle[l] = p.index[i];
           }
         }
-      }
-      advance(g, plan, b);
-      if (keep_next) {
-        if (run) {
-          float* __restrict pairs = walk_next + 2 * idx[0];
-          for (int l = 0; l < kLanes; ++l) pairs[2 * l] = b.walk0[l], pairs[2 * l + 1] = b.walk1[l];
-        } else {
+        b.walk_cached = kept;
+        if (any_fresh) {
+          for (int l = 0; l < m; ++l) b.walk_cached = b.walk_cached && !fresh[first + l];
+        }
+        if (b.walk_cached) {
+          if (run) {
+            walk_run(walk_next + 2 * idx[0], b);
+          } else {
+            for (int l = 0; l < kLanes; ++l) {
+              const std::int64_t i = idx[l];
+              b.walk0[l] = walk_next[2 * i];
+              b.walk1[l] = walk_next[2 * i + 1];
+            }
+          }
+        }
+        advance(g, plan, b);
+        if (keep_next) {
+          if (run) {
+            float* __restrict pairs = walk_next + 2 * idx[0];
+            for (int l = 0; l < kLanes; ++l) pairs[2 * l] = b.walk0[l], pairs[2 * l + 1] = b.walk1[l];
+          } else {
+            for (int l = 0; l < m; ++l) {
+              walk_next[2 * idx[l]] = b.walk0[l];
+              walk_next[2 * idx[l] + 1] = b.walk1[l];
+            }
+          }
+        }
+
+        // What the batch's larvae met (conditions_at()) first, where each
+        // ends the step, held or not: short loops, so the exponentials and
+        // logarithms of successive larvae run side by side.
+        alignas(64) double rate[kLanes], food_log2[kLanes];
+        if (develops) {
+          alignas(64) double temperature[kLanes], chlorophyll[kLanes], lon[kLanes], lat[kLanes];
+          alignas(64) bool feeding[kLanes];
           for (int l = 0; l < m; ++l) {
-            walk_next[2 * idx[l]] = b.walk0[l];
-            walk_next[2 * idx[l] + 1] = b.walk1[l];
+            const bool held = b.where[l] == lanes::kLand;
+            lon[l] = held ? b.lon0[l] : b.lon[l];
+            lat[l] = held ? b.lat0[l] : b.lat[l];
+            feeding[l] = feeds(environment, clock, p.development_s[idx[l]]);
           }
+          scalars.at(lon, lat, m, temperature, chlorophyll);
+          // (1 with temperature off: development_rate() says so, and the
+          // temperature is NaN then anyway)
+          for (int l = 0; l < m; ++l) rate[l] = environment.development_rate(temperature[l]);
+          for (int l = 0; l < m; ++l) food_log2[l] = environment.food_log2(chlorophyll[l]);
+          for (int l = 0; l < m; ++l) food_log2[l] = feeding[l] ? food_log2[l] : Conditions{}.food_log2;
         }
-      }
 
-      // What the batch's larvae met (conditions_at()) first, where each
-      // ends the step, held or not: short loops, so the exponentials and
-      // logarithms of successive larvae run side by side.
-      alignas(64) double rate[kLanes], food_log2[kLanes];
-      if (develops) {
-        alignas(64) double temperature[kLanes], chlorophyll[kLanes], lon[kLanes], lat[kLanes];
-        alignas(64) bool feeding[kLanes];
         for (int l = 0; l < m; ++l) {
-          const bool held = b.where[l] == lanes::kLand;
-          lon[l] = held ? b.lon0[l] : b.lon[l];
-          lat[l] = held ? b.lat0[l] : b.lat[l];
-          feeding[l] = feeds(environment, clock, p.development_s[idx[l]]);
-        }
-        scalars.at(lon, lat, m, temperature, chlorophyll);
-        // (1 with temperature off: development_rate() says so, and the
-        // temperature is NaN then anyway)
-        for (int l = 0; l < m; ++l) rate[l] = environment.development_rate(temperature[l]);
-        for (int l = 0; l < m; ++l) food_log2[l] = environment.food_log2(chlorophyll[l]);
-        for (int l = 0; l < m; ++l) food_log2[l] = feeding[l] ? food_log2[l] : Conditions{}.food_log2;
-      }
-
-      for (int l = 0; l < m; ++l) {
-        max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
-        const std::int64_t i = idx[l];
-        double lon = b.lon[l], lat = b.lat[l];
-        if (b.where[l] == lanes::kOutside) {
+          max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
+          const std::int64_t i = idx[l];
+          double lon = b.lon[l], lat = b.lat[l];
+          if (b.where[l] == lanes::kOutside) {
+            p.lon[i] = lon;
+            p.lat[i] = lat;
+            p.fate[i] = Fate::lost;
+            ++lost;
+            continue;
+          }
+          if (b.where[l] == lanes::kLand) {
+            ++land_contacts;
+            if (s.land == LandRule::strand) {
+              p.fate[i] = Fate::stranded;
+              ++stranded;
+              continue;
+            }
+            lon = b.lon0[l];  // hold: the step is undone
+            lat = b.lat0[l];
+          }
           p.lon[i] = lon;
           p.lat[i] = lat;
-          p.fate[i] = Fate::lost;
-          ++lost;
-          continue;
-        }
-        if (b.where[l] == lanes::kLand) {
-          ++land_contacts;
-          if (s.land == LandRule::strand) {
-            p.fate[i] = Fate::stranded;
-            ++stranded;
-            continue;
-          }
-          lon = b.lon0[l];  // hold: the step is undone
-          lat = b.lat0[l];
-        }
-        p.lon[i] = lon;
-        p.lat[i] = lat;
 
-        const StreamId id{s.event, p.source[i], p.index[i]};
-        const double age0 = t0 - p.release_s[i];
-        const double age1 = t1 - p.release_s[i];
-        double development = age1;  // the real age unless temperature/food act
-        if (develops) {
-          development = develop(p, i, id, step, environment, Conditions{rate[l], food_log2[l]}, s.dt_s, age1,
-                                clock, rng);
-          if (development < 0) {
-            ++died;
-            continue;
+          const StreamId id{s.event, p.source[i], p.index[i]};
+          const double age0 = t0 - p.release_s[i];
+          const double age1 = t1 - p.release_s[i];
+          double development = age1;  // the real age unless temperature/food act
+          if (develops) {
+            development = develop(p, i, id, step, environment, Conditions{rate[l], food_log2[l]}, s.dt_s, age1,
+                                  clock, rng);
+            if (development < 0) {
+              ++died;
+              continue;
+            }
           }
-        }
-        const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
-        // Open water (no reef near the node's cell): the look-up would say none.
-        const StepEnd end =
-            b.where[l] == lanes::kWater
-                ? end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, OpenWater{}, rng)
-                : end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, reefs, rng);
-        switch (end) {
-          case StepEnd::died: ++died; break;
-          case StepEnd::settled: settled_now[i] = 1; ++settled; break;
-          case StepEnd::drifting: break;
+          const double survive = constant_hazard ? constant_survive : clock.step_survival(age0, age1);
+          // Open water (no reef near the node's cell): the look-up would say none.
+          const StepEnd end =
+              b.where[l] == lanes::kWater
+                  ? end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, OpenWater{}, rng)
+                  : end_step(p, i, id, step, survive, development, lon, lat, settle_p, clock, reefs, rng);
+          switch (end) {
+            case StepEnd::died: ++died; break;
+            case StepEnd::settled: settled_now[i] = 1; ++settled; break;
+            case StepEnd::drifting: break;
+          }
         }
       }
     }
   }
+  if (side_error) std::rethrow_exception(side_error);
 
   p.walk_next_step = keep_next ? step + 1 : ParticleSet::kNoWalkCache;
   p.walk_next_event = s.event;

@@ -3,15 +3,18 @@
 // the exact displacement in a uniform current.
 #include <catch2/catch.hpp>
 
+#include <atomic>
 #include <cmath>
 #include <cstring>
 #include <cstdio>
 #include <cstdlib>
 #include <filesystem>
 #include <netcdf>
+#include <omp.h>
 #include <vector>
 
 #include "../support/cf_axes.hpp"
+#include "cullcast/base/error.hpp"
 #include "cullcast/currents/current_field.hpp"
 #include "cullcast/drift/drift_step.hpp"
 #include "cullcast/drift/grid_stepper.hpp"
@@ -409,6 +412,53 @@ TEST_CASE("grid stepper: uniform eastward current gives the exact displacement o
     CHECK(fast.p.lon[i] == Approx(expected).margin(1e-7 * (expected - 150.1)));
     CHECK(fast.p.lat[i] == Approx(start.lat[i]).margin(1e-12));
   }
+  fs::remove_all(dir);
+}
+
+TEST_CASE("grid stepper: a side job runs once per step on one of its threads; its error comes after the step") {
+  const fs::path dir = fs::temp_directory_path() / "cullcast-grid-stepper-side-job";
+  const fs::path file = write_flow(dir, 81, 61, 150.0, -20.3, 0.01);
+  const auto reef_set = one_reef(150.42, -20.0, 0.02);
+  const reefs::ReefLookup lookup(reef_set, 0.0);
+  currents::CurrentField field = currents::CurrentField::open_files({file.string()});
+  const auto earth = drift::EarthModel::sphere(6371000.0);
+  study::LarvaeSettings larvae;
+  larvae.precompetent_days = 0.05;
+  const drift::LarvalClock clock(larvae);
+  const CounterRandom rng(5);
+  drift::StepSettings s;
+  s.event_start_s = field.time_begin_s();
+  s.dt_s = 600;
+  s.kh_m2_s = 20;
+  drift::GridStepper with(field, earth), without(field, earth);
+  drift::ParticleSet a = grid_of_particles(150.05, -20.25, 0.5, 80), b = a;  // 6400: a parallel step
+  std::vector<std::uint8_t> now_a, now_b;
+  const drift::LarvalEnvironment environment(larvae, false, false);
+  const int threads = omp_get_max_threads();
+  omp_set_num_threads(2);
+  std::atomic<int> calls{0};
+  for (std::uint32_t k = 0; k < 12; ++k) {
+    const double t0 = s.event_start_s + k * s.dt_s;
+    field.prepare(t0, t0 + s.dt_s);
+    const auto side_job = [&calls, k] {
+      ++calls;
+      if (k == 7) throw InputError("side job failed at step 7");
+    };
+    if (k == 7) {
+      CHECK_THROWS_WITH(with.step(a, k, s, clock, lookup, rng, now_a, environment, side_job),
+                        "side job failed at step 7");
+    } else {
+      with.step(a, k, s, clock, lookup, rng, now_a, environment, side_job);
+    }
+    without.step(b, k, s, clock, lookup, rng, now_b, environment);
+    REQUIRE(calls == static_cast<int>(k) + 1);
+    // The step itself was done in full, error or not: the same bits as without the job.
+    REQUIRE(std::memcmp(a.lon.data(), b.lon.data(), a.size() * sizeof(double)) == 0);
+    REQUIRE(std::memcmp(a.lat.data(), b.lat.data(), a.size() * sizeof(double)) == 0);
+    REQUIRE(a.fate == b.fate);
+    REQUIRE(now_a == now_b);
+  }
+  omp_set_num_threads(threads);
   fs::remove_all(dir);
 }
 

@@ -91,15 +91,27 @@ class CurrentField {
   // parallel loop. Throws InputError if [t0, t1] is outside the files' span.
   // Moving forward in time with a processor to spare (fewer OpenMP threads
   // than usable processors), the last read-ahead interval is decoded on a
-  // background thread while the caller works; a later prepare() takes it
-  // over when it is needed (and throws its decoding error then).
+  // background thread while the caller works; without one it waits as
+  // pending work for read_pending(). A later prepare() takes it over when it
+  // is needed (decoding it then if nobody has) and throws its decoding error
+  // then. Either way the data are the same.
   void prepare(double t0_s, double t1_s);
+  // Decodes the pending read-ahead interval, if any, on the calling thread:
+  // meant for one thread of a parallel step while the others move particles
+  // (GridStepper::step's side job), so the decoding overlaps the step on a
+  // machine with no processor to spare. It touches only that interval:
+  // other threads may sample the prepared frames meanwhile; not concurrently
+  // with prepare(), settle() or another read_pending(). Never throws: a
+  // decoding error waits for the prepare() that needs the interval.
+  // Returns whether there was an interval to decode.
+  bool read_pending();
   // Waits for the background decoder. Call before using the NetCDF library
   // elsewhere in the process (the library is not thread-safe); the
   // destructor waits too.
   void settle();
   // Forces the background decoder on or off (by default it runs when a
-  // processor is spare); either way the data are the same.
+  // processor is spare; off, read-ahead is pending work); either way the
+  // data are the same.
   void set_background_reads(bool on);
   // Whether prepare() hands read-ahead to the background decoder now.
   bool background_reads() const;

@@ -25,6 +25,7 @@
 // taken at the row where the step started (within 3e-5 of the exact one);
 // the tests bound the difference.
 #include <cstdint>
+#include <functional>
 #include <vector>
 
 #include "cullcast/currents/current_field.hpp"
@@ -59,10 +60,15 @@ class GridStepper {
   // [event_start + step·dt, event_start + (step+1)·dt]. With `environment`
   // on, development follows the field's temperature and chlorophyll as in
   // drift_step() with StepExtras (p.enable_development() first).
+  // `side_job`, if given, runs once on one of the step's threads while the
+  // others move particles (run_drift: CurrentField::read_pending); it must
+  // not touch the particles or what the step reads. Its exception, if any,
+  // is rethrown after the step.
   StepTally step(ParticleSet& p, std::uint32_t step, const StepSettings& s, const LarvalClock& clock,
                  const reefs::ReefLookup& reefs, const CounterRandom& rng,
                  std::vector<std::uint8_t>& settled_now,
-                 const LarvalEnvironment& environment = LarvalEnvironment(study::LarvaeSettings{}, false, false));
+                 const LarvalEnvironment& environment = LarvalEnvironment(study::LarvaeSettings{}, false, false),
+                 const std::function<void()>& side_job = {});
 
  private:
   const currents::CurrentField& field_;
