@@ -48,6 +48,17 @@ RegularSpec linear_spec(std::vector<double> lon, std::vector<double> lat) {
   s.v = lin_v;
   return s;
 }
+
+// Day `k` (hourly frames from hour 24 k) of a non-linear field, for the
+// streaming tests.
+RegularSpec wavy_day(int k) {
+  RegularSpec s = linear_spec({150, 150.2, 150.4, 150.6, 150.8, 151}, {-20.5, -20.25, -20, -19.75, -19.5});
+  s.u = [](double t, double, double lat, double lon) { return 0.3 * std::sin(0.7 * t + 9 * lon) * std::cos(5 * lat); };
+  s.v = [](double t, double, double lat, double lon) { return 0.2 * std::cos(0.3 * t - 7 * lat + lon); };
+  s.time.clear();
+  for (int h = 0; h < 24; ++h) s.time.push_back(k * 24 + h);
+  return s;
+}
 }  // namespace
 
 TEST_CASE("bilinear exactness on regular grids: non-uniform, descending, 0..360", "[currents][grid]") {
@@ -352,12 +363,8 @@ TEST_CASE("streaming: the background decoder gives the same data and reports err
   ScratchDir dir;
   std::vector<std::string> files;
   for (int k = 0; k < 4; ++k) {
-    RegularSpec s = linear_spec({150, 150.2, 150.4, 150.6, 150.8, 151}, {-20.5, -20.25, -20, -19.75, -19.5});
-    s.u = [](double t, double, double lat, double lon) { return 0.3 * std::sin(0.7 * t + 9 * lon) * std::cos(5 * lat); };
-    s.v = [](double t, double, double lat, double lon) { return 0.2 * std::cos(0.3 * t - 7 * lat + lon); };
+    RegularSpec s = wavy_day(k);
     if (k == 3) s.u = [](double t, double, double, double) { return t >= 80 ? 40.0 : 0.1; };
-    s.time.clear();
-    for (int h = 0; h < 24; ++h) s.time.push_back(k * 24 + h);
     files.push_back(ncgen(dir, "part" + std::to_string(k), regular_cdl(s)));
   }
   auto foreground = CurrentField::open_files(files), background = CurrentField::open_files(files);
@@ -418,14 +425,7 @@ TEST_CASE("streaming: read-ahead left pending is decoded by read_pending() on an
           "[currents][stream]") {
   ScratchDir dir;
   std::vector<std::string> files;
-  for (int k = 0; k < 3; ++k) {
-    RegularSpec s = linear_spec({150, 150.2, 150.4, 150.6, 150.8, 151}, {-20.5, -20.25, -20, -19.75, -19.5});
-    s.u = [](double t, double, double lat, double lon) { return 0.3 * std::sin(0.7 * t + 9 * lon) * std::cos(5 * lat); };
-    s.v = [](double t, double, double lat, double lon) { return 0.2 * std::cos(0.3 * t - 7 * lat + lon); };
-    s.time.clear();
-    for (int h = 0; h < 24; ++h) s.time.push_back(k * 24 + h);
-    files.push_back(ncgen(dir, "part" + std::to_string(k), regular_cdl(s)));
-  }
+  for (int k = 0; k < 3; ++k) files.push_back(ncgen(dir, "part" + std::to_string(k), regular_cdl(wavy_day(k))));
   auto reference = CurrentField::open_files(files), helped = CurrentField::open_files(files),
        unhelped = CurrentField::open_files(files);
   reference.set_background_reads(true);
