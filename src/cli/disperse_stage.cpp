@@ -6,6 +6,7 @@
 #include <filesystem>
 #include <optional>
 #include <ostream>
+#include <string>
 
 #include "cullcast/base/atomic_file.hpp"
 #include "cullcast/base/error.hpp"
@@ -21,6 +22,8 @@
 
 namespace cullcast::cli {
 namespace {
+
+std::string threads_text(int n) { return std::to_string(n) + (n == 1 ? " thread" : " threads"); }
 
 void print_summary(std::ostream& out, const drift::DriftSummary& s) {
   auto row = [&](const char* name, std::int64_t n, std::int64_t of) {
@@ -38,12 +41,11 @@ void print_summary(std::ostream& out, const drift::DriftSummary& s) {
   row("stranded", t.stranded, t.released);
   row("lost", t.lost, t.released);
   row("drifting", t.drifting, t.released);
-  char speed[160];
-  std::snprintf(speed, sizeof speed, "%.2f million particle-steps per second (%d threads%s%s)",
-                s.particle_steps_per_s / 1e6, omp_get_max_threads(), s.stepper.empty() ? "" : ", ",
-                s.stepper.c_str());
-  out << "  " << with_thousands(s.particle_steps) << " particle-steps in "
-      << format_duration(s.seconds) << ": " << speed << "\n";
+  char rate[32];
+  std::snprintf(rate, sizeof rate, "%.2f", s.particle_steps_per_s / 1e6);
+  out << "  " << with_thousands(s.particle_steps) << " particle-steps in " << format_duration(s.seconds) << ": "
+      << rate << " million particle-steps per second (" << threads_text(omp_get_max_threads())
+      << (s.stepper.empty() ? "" : ", ") << s.stepper << ")\n";
   if (s.land_contacts > 0) {
     out << "  " << with_thousands(s.land_contacts) << " steps were held back from land\n";
   }
@@ -70,7 +72,7 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
     if (!ctx.quiet && root) {
       ctx.out << "Study \"" << study.study.name << "\" (seed " << study.study.seed << ", "
               << study.motion.scheme << ", dt " << study.motion.dt_minutes << " min, Kh "
-              << study.motion.kh_m2_s << " m2/s, " << omp_get_max_threads() << " threads)\n";
+              << study.motion.kh_m2_s << " m2/s, " << threads_text(omp_get_max_threads()) << ")\n";
     }
     field.emplace(currents::CurrentField::open(study.currents));
     field->set_background_reads(team.processor_spare());  // counts the other ranks on this machine
@@ -122,7 +124,11 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
     summary = drift::run_drift(study, *field, *reef_set, sources,
                                [&](const drift::DriftProgress& p) { display(p); },
                                team.share(study, sources.size()), checkpoint);
-    if (field->background_reads()) summary.stepper += "; next frames decoded on a spare processor";
+    if (field->background_reads()) {
+      summary.stepper += "; next frames decoded on a spare processor";
+    } else if (omp_get_max_threads() > 1 && summary.stepper.rfind("grid stepper", 0) == 0) {
+      summary.stepper += "; next frames decoded by one of the step's threads";
+    }
     display.finish();
     if (!ctx.quiet && root && !team.queue_report().empty()) ctx.out << "  " << team.queue_report() << "\n";
   } catch (const InputError& e) {
