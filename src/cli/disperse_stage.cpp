@@ -124,11 +124,6 @@ std::optional<drift::DriftSummary> run_disperse_stage(const CliContext& ctx, con
     summary = drift::run_drift(study, *field, *reef_set, sources,
                                [&](const drift::DriftProgress& p) { display(p); },
                                team.share(study, sources.size()), checkpoint);
-    if (field->background_reads()) {
-      summary.stepper += "; next frames decoded on a spare processor";
-    } else if (omp_get_max_threads() > 1 && summary.stepper.rfind("grid stepper", 0) == 0) {
-      summary.stepper += "; next frames decoded by one of the step's threads";
-    }
     display.finish();
     if (!ctx.quiet && root && !team.queue_report().empty()) ctx.out << "  " << team.queue_report() << "\n";
   } catch (const InputError& e) {

@@ -1,5 +1,7 @@
 #include "cullcast/drift/drift_run.hpp"
 
+#include <omp.h>
+
 #include <algorithm>
 #include <chrono>
 #include <limits>
@@ -231,6 +233,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
                      "(or with -np 1), or switch [tracks] off");
   }
   DriftSummary summary;
+  bool grid_ran = false;  // some event took the grid stepper (and its read-ahead side job)
   const auto& calendar = field.calendar();
   const LarvalClock clock(study.larvae);
   const EarthModel earth = EarthModel::from_name(study.motion.earth, study.motion.earth_radius_m);
@@ -453,6 +456,7 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     const bool grid_extras_free = !extras.depth.moves() && !extras.kh_varies();
     const bool on_grid = grid_extras_free && GridStepper::applies(field, p);
     if (on_grid) {
+      grid_ran = true;
       summary.stepper = std::string("grid stepper, ") + GridStepper::isa_name(grid_stepper.instruction_set()) + " kernel";
     } else if (summary.stepper.empty()) {
       summary.stepper = "generic step";
@@ -589,6 +593,12 @@ DriftSummary run_drift(const study::Study& study, currents::CurrentField& field,
     tracks->commit();
     summary.track_samples = tracks->samples();
     summary.track_count = tracks->trajectories();
+  }
+  // Who decoded the next currents frames while the larvae moved, if anyone.
+  if (field.background_reads()) {
+    summary.stepper += "; next frames decoded on a spare processor";
+  } else if (grid_ran && omp_get_max_threads() > 1) {
+    summary.stepper += "; next frames decoded by one of the step's threads";
   }
   return summary;
 }

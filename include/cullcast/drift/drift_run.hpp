@@ -51,7 +51,9 @@ struct DriftSummary {
   std::size_t track_count = 0;
   std::filesystem::path backward_csv;    // empty without [backward]
   std::string physics;                   // the optional physics in effect (for the summary)
-  std::string stepper;                   // which step path ran (grid stepper with its kernel, or generic)
+  // Which step path ran (grid stepper with its kernel, or generic) and who
+  // decoded the next currents frames meanwhile, if anyone.
+  std::string stepper;
   std::vector<std::string> warnings;
 };
 
