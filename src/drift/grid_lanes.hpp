@@ -440,10 +440,15 @@ struct StartRows {
   alignas(64) float m_x[kLanes], m_y[kLanes];
   alignas(64) double east[kLanes], north[kLanes];
 };
+// The rows come first in a loop of their own (vector instructions), then
+// the table loads in a plain loop (this processor's gather instructions are
+// no faster than separate loads).
 [[gnu::always_inline]] inline void start_rows(const Grid& g, const Batch& b, StartRows& rows) noexcept {
   const Grid local = g;
+  alignas(64) std::uint32_t row[kLanes];
+  for (int l = 0; l < kLanes; ++l) row[l] = static_cast<std::uint32_t>(nearest_row(local, b.lat0[l]));
   for (int l = 0; l < kLanes; ++l) {
-    const auto j = static_cast<std::uint32_t>(nearest_row(local, b.lat0[l]));
+    const std::uint32_t j = row[l];
     rows.m_x[l] = local.row_m_per_cell_x[j];
     rows.m_y[l] = local.row_m_per_cell_y[j];
     rows.east[l] = local.row_east[j];
@@ -583,14 +588,21 @@ template <bool Wrap, int Width>
 [[gnu::always_inline]] inline bool wrap_needed(const Grid& g, const Batch& b) noexcept {
   if (g.gx_max / g.inv_dlon >= 300.0) return true;  // (nearly) global grid
   // Counted in double (a select between two doubles): a bool or integer
-  // reduction of double comparisons is left scalar by GCC 12.
+  // reduction of double comparisons is left scalar by GCC 12. Eight running
+  // counts, one per lane of a vector: a single sum would be a chain of
+  // dependent additions (the compiler may not reorder them).
+  constexpr int kRunning = 8;
   const double lon0 = g.lon0;
-  double far = 0.0;
-  for (int l = 0; l < kLanes; ++l) {
-    const double x = b.lon0[l] - lon0;
-    far += ((x >= 0.0) & (x < 300.0)) ? 0.0 : 1.0;  // also NaN
+  double far[kRunning] = {};
+  for (int l = 0; l < kLanes; l += kRunning) {
+    for (int k = 0; k < kRunning; ++k) {
+      const double x = b.lon0[l + k] - lon0;
+      far[k] += ((x >= 0.0) & (x < 300.0)) ? 0.0 : 1.0;  // also NaN
+    }
   }
-  return far != 0.0;
+  double total = 0.0;
+  for (double count : far) total += count;
+  return total != 0.0;
 }
 
 // `Width`: floats per vector register of the instruction set the caller is

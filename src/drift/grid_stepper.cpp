@@ -84,6 +84,56 @@ struct OpenWater {
   int reef_at(double, double) const noexcept { return -1; }
 };
 
+// Whether end_step() is sure to leave every lane of a full batch drifting or
+// dead of old age: each ended in water (neither on land nor off the grid)
+// where no reef can take it: no reef near its node, or not competent at the
+// step's end (`age1` the lanes' ages then, with no temperature or food
+// effects). A vector test over the whole batch: most batches pass it.
+bool plain_ends(const lanes::Batch& b, const double* age1, const LarvalClock& clock) noexcept {
+  const double settle_from = clock.precompetent_s(), settle_to = clock.max_age_s();
+  unsigned other = 0;
+  for (int l = 0; l < kLanes; ++l) {
+    const bool open = b.where[l] == lanes::kWater;
+    const bool near_but_unable = (b.where[l] == lanes::kNearReef) & ((age1[l] < settle_from) | (age1[l] > settle_to));
+    other |= static_cast<unsigned>(!(open | near_but_unable));
+  }
+  return other == 0;
+}
+
+// The largest of `so_far` and a batch's values, NaN ignored: eight running
+// maxima updated lane-wise (vector selects) instead of one long chain of
+// dependent comparisons. Maxima are exact: the same value either way.
+double batch_max(const double* value, double so_far) noexcept {
+  constexpr int kRunning = 8;
+  double running[kRunning];
+  for (double& r : running) r = so_far;
+  for (int l = 0; l < kLanes; l += kRunning) {
+    for (int k = 0; k < kRunning; ++k) running[k] = value[l + k] > running[k] ? value[l + k] : running[k];
+  }
+  for (double r : running) so_far = r > so_far ? r : so_far;
+  return so_far;
+}
+
+// end_step() for such a batch of kLanes neighbours from `first`, under
+// weight mortality with a constant hazard (`survive` for every lane): the
+// same outcome as lane-by-lane calls, in loops the compiler vectorises.
+// Returns the larvae that died of old age.
+std::uint64_t end_plain_run(ParticleSet& p, std::int64_t first, const lanes::Batch& b, const double* age1,
+                            double survive, double max_age_s) noexcept {
+  std::copy_n(b.lon, kLanes, p.lon.data() + first);
+  std::copy_n(b.lat, kLanes, p.lat.data() + first);
+  double* __restrict weight = p.weight.data() + first;
+  Fate* __restrict fate = p.fate.data() + first;
+  std::uint64_t old = 0;
+  for (int l = 0; l < kLanes; ++l) {
+    weight[l] *= survive;
+    const bool dies = age1[l] >= max_age_s;
+    fate[l] = dies ? Fate::died : Fate::drifting;
+    old += dies ? 1u : 0u;
+  }
+  return old;
+}
+
 using AdvanceFn = void (*)(const lanes::Grid&, const lanes::StepPlan&, lanes::Batch&) noexcept;
 
 AdvanceFn kernel_for(VectorIsa isa) {
@@ -429,6 +479,16 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
           for (int l = 0; l < m; ++l) food_log2[l] = feeding[l] ? food_log2[l] : Conditions{}.food_log2;
         }
 
+        if (run && !develops && !clock.random_deaths() && constant_hazard) {
+          alignas(64) double age1[kLanes];
+          const float* release = p.release_s.data() + idx[0];
+          for (int l = 0; l < kLanes; ++l) age1[l] = t1 - release[l];
+          if (plain_ends(b, age1, clock)) {
+            max_speed = batch_max(b.speed, max_speed);
+            died += end_plain_run(p, idx[0], b, age1, constant_survive, clock.max_age_s());
+            continue;
+          }
+        }
         for (int l = 0; l < m; ++l) {
           max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
           const std::int64_t i = idx[l];
