@@ -128,14 +128,20 @@ struct Outcome {
   std::uint64_t steps = 0;
 };
 
-Outcome run(bool grid, const fs::path& file, drift::ParticleSet p, drift::Scheme scheme, double kh,
-            const reefs::ReefSet& reef_set, std::uint32_t steps, const drift::EarthModel& earth,
-            drift::VectorIsa isa = drift::GridStepper::instruction_sets().back(), bool drop_kept_walk = false) {
-  currents::CurrentField field = currents::CurrentField::open_files({file.string()});
+// Competent after 72 minutes, for two days; 0.2 deaths per day.
+study::LarvaeSettings test_larvae() {
   study::LarvaeSettings larvae;
   larvae.precompetent_days = 0.05;
   larvae.competent_days = 2.0;
   larvae.mortality_per_day = 0.2;
+  return larvae;
+}
+
+Outcome run(bool grid, const fs::path& file, drift::ParticleSet p, drift::Scheme scheme, double kh,
+            const reefs::ReefSet& reef_set, std::uint32_t steps, const drift::EarthModel& earth,
+            drift::VectorIsa isa = drift::GridStepper::instruction_sets().back(), bool drop_kept_walk = false,
+            const study::LarvaeSettings& larvae = test_larvae()) {
+  currents::CurrentField field = currents::CurrentField::open_files({file.string()});
   const drift::LarvalClock clock(larvae);
   const reefs::ReefLookup lookup(reef_set, 0.0);
   const CounterRandom rng(11);
@@ -382,6 +388,57 @@ TEST_CASE("grid stepper: larvae given west of the antimeridian on a grid numbere
   }
   CHECK(drifting > west.size() / 2);  // most stay on the grid: the wrapped path really ran
   CHECK(same >= west.size() - west.size() / 1000);
+  fs::remove_all(dir);
+}
+
+TEST_CASE("grid stepper: weights, settlement and death at the end of competency as in the generic step") {
+  // Competent from 1/64 to 1/16 of a day (1350-5400 s, exact in binary):
+  // over 9 steps of 600 s, larvae released at 0 reach the end of competency
+  // exactly at the last step's end, and die there (age >= the end); those
+  // released 600 s later are still drifting. Most batches end in open water
+  // or near the reef but not competent, the rest over it while competent.
+  const fs::path dir = fs::temp_directory_path() / "cullcast-grid-stepper-ends";
+  const fs::path file = write_flow(dir, 81, 61, 150.0, -20.3, 0.01);
+  const auto reef_set = one_reef(150.42, -20.0, 0.05);
+  const auto earth = drift::EarthModel::sphere(6371000.0);
+  study::LarvaeSettings larvae = test_larvae();
+  larvae.precompetent_days = 1.0 / 64;
+  larvae.competent_days = 3.0 / 64;
+  larvae.mortality_per_day = 0.2;
+  const std::uint32_t steps = 9;
+  const auto start = grid_of_particles(150.05, -20.25, 0.5, 40);
+  const Outcome fast =
+      run(true, file, start, drift::Scheme::rk4, 0.0, reef_set, steps, earth, drift::GridStepper::instruction_sets().back(),
+          false, larvae);
+  const Outcome generic = run(false, file, start, drift::Scheme::rk4, 0.0, reef_set, steps, earth,
+                              drift::GridStepper::instruction_sets().back(), false, larvae);
+  compare(fast, generic, 1e-6);
+  const std::size_t n = start.size();
+  std::size_t same_weight = 0, settled = 0, old_age = 0, drifting = 0;
+  for (std::size_t i = 0; i < n; ++i) {
+    // Both paths decay weights by one factor per step: the same bits.
+    if (fast.p.weight[i] == generic.p.weight[i]) ++same_weight;
+    const double release = start.release_s[i];
+    if (fast.p.fate[i] == drift::Fate::settled) ++settled;
+    if (fast.p.fate[i] == drift::Fate::died) {
+      ++old_age;
+      INFO("particle " << i << " released at " << release << " s");
+      CHECK(release == 0.0);  // only those reach the end of competency
+    }
+    if (fast.p.fate[i] == drift::Fate::drifting) {
+      ++drifting;
+      INFO("particle " << i << " released at " << release << " s");
+      CHECK(release > 0.0);
+      // Constant hazard m: survival exp(-m·age) (the exponential special case
+      // of the Weibull survival in Connolly & Baird 2010, Ecology 91:3572-3583).
+      const double age = steps * 600.0 - release;
+      CHECK(fast.p.weight[i] == Approx(std::exp(-0.2 / 86400.0 * age)).epsilon(1e-12));
+    }
+  }
+  CHECK(same_weight >= n - n / 1000);
+  CHECK(settled > 0);
+  CHECK(old_age > n / 4);
+  CHECK(drifting > n / 4);
   fs::remove_all(dir);
 }
 
