@@ -63,6 +63,13 @@ bool all_drifting(const Fate* fate, std::int64_t n) noexcept {
   return other == 0;
 }
 
+// Whether any of n fates is `waiting` (not released yet).
+bool any_waiting(const Fate* fate, std::int64_t n) noexcept {
+  unsigned waiting = 0;
+  for (std::int64_t i = 0; i < n; ++i) waiting |= static_cast<unsigned>(fate[i] == Fate::waiting);
+  return waiting != 0;
+}
+
 // A batch's inputs from kLanes consecutive particles from `first`.
 void gather_run(const ParticleSet& p, std::int64_t first, lanes::Batch& b) noexcept {
   std::copy_n(p.lon.data() + first, kLanes, b.lon0);
@@ -114,21 +121,35 @@ double batch_max(const double* value, double so_far) noexcept {
   return so_far;
 }
 
-// end_step() for such a batch of kLanes neighbours from `first`, under
-// weight mortality with a constant hazard (`survive` for every lane): the
-// same outcome as lane-by-lane calls, in loops the compiler vectorises.
+// end_step() for such a batch under weight mortality with a constant hazard
+// (`survive` for every lane): the same outcome as lane-by-lane calls, in
+// loops free of branches. `idx`: the batch's m particles; `run`: they are
+// neighbours in the array (contiguous loads and stores, vector loops).
 // Returns the larvae that died of old age.
-std::uint64_t end_plain_run(ParticleSet& p, std::int64_t first, const lanes::Batch& b, const double* age1,
-                            double survive, double max_age_s) noexcept {
-  std::copy_n(b.lon, kLanes, p.lon.data() + first);
-  std::copy_n(b.lat, kLanes, p.lat.data() + first);
-  double* __restrict weight = p.weight.data() + first;
-  Fate* __restrict fate = p.fate.data() + first;
+std::uint64_t end_plain(ParticleSet& p, const std::int64_t* idx, int m, bool run, const lanes::Batch& b,
+                        const double* age1, double survive, double max_age_s) noexcept {
   std::uint64_t old = 0;
-  for (int l = 0; l < kLanes; ++l) {
-    weight[l] *= survive;
+  if (run) {
+    const std::int64_t first = idx[0];
+    std::copy_n(b.lon, kLanes, p.lon.data() + first);
+    std::copy_n(b.lat, kLanes, p.lat.data() + first);
+    double* __restrict weight = p.weight.data() + first;
+    Fate* __restrict fate = p.fate.data() + first;
+    for (int l = 0; l < kLanes; ++l) {
+      weight[l] *= survive;
+      const bool dies = age1[l] >= max_age_s;
+      fate[l] = dies ? Fate::died : Fate::drifting;
+      old += dies ? 1u : 0u;
+    }
+    return old;
+  }
+  for (int l = 0; l < m; ++l) {
+    const std::int64_t i = idx[l];
+    p.lon[i] = b.lon[l];
+    p.lat[i] = b.lat[l];
+    p.weight[i] *= survive;
     const bool dies = age1[l] >= max_age_s;
-    fate[l] = dies ? Fate::died : Fate::drifting;
+    p.fate[i] = dies ? Fate::died : Fate::drifting;
     old += dies ? 1u : 0u;
   }
   return old;
@@ -392,6 +413,13 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
       if (all_drifting(p.fate.data() + chunk_begin, chunk_end - chunk_begin)) {
         // The common case between releases and the first settlements.
         for (std::int64_t i = chunk_begin; i < chunk_end; ++i) drifting[count++] = i;
+      } else if (!any_waiting(p.fate.data() + chunk_begin, chunk_end - chunk_begin)) {
+        // Settled, dead or lost larvae here and there, none to release: the
+        // drifting ones listed without branches (fresh[] stays unread).
+        for (std::int64_t i = chunk_begin; i < chunk_end; ++i) {
+          drifting[count] = i;
+          count += p.fate[i] == Fate::drifting ? 1 : 0;
+        }
       } else {
         for (std::int64_t i = chunk_begin; i < chunk_end; ++i) {
           Fate fate = p.fate[i];
@@ -479,13 +507,19 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
           for (int l = 0; l < m; ++l) food_log2[l] = feeding[l] ? food_log2[l] : Conditions{}.food_log2;
         }
 
-        if (run && !develops && !clock.random_deaths() && constant_hazard) {
+        if (!develops && !clock.random_deaths() && constant_hazard) {
+          // (spare lanes of a partial batch repeat its lane 0: the tests
+          // below hold for them when they hold for it)
           alignas(64) double age1[kLanes];
-          const float* release = p.release_s.data() + idx[0];
-          for (int l = 0; l < kLanes; ++l) age1[l] = t1 - release[l];
+          if (run) {
+            const float* release = p.release_s.data() + idx[0];
+            for (int l = 0; l < kLanes; ++l) age1[l] = t1 - release[l];
+          } else {
+            for (int l = 0; l < kLanes; ++l) age1[l] = t1 - p.release_s[idx[l]];
+          }
           if (plain_ends(b, age1, clock)) {
             max_speed = batch_max(b.speed, max_speed);
-            died += end_plain_run(p, idx[0], b, age1, constant_survive, clock.max_age_s());
+            died += end_plain(p, idx, m, run, b, age1, constant_survive, clock.max_age_s());
             continue;
           }
         }
