@@ -310,11 +310,18 @@ template <bool Wrap>
 // position lies on the grid's `nodes` (the last node belongs to the cell
 // before it), else 0. Flags are 32-bit integers combined with & (not bools
 // and &&), so the loops calling this stay free of branches and vectorise.
+template <int Width>
 inline std::int32_t axis_cell(std::int32_t base, float offset, std::int32_t nodes, std::int32_t& index,
                               float& w) noexcept {
   offset = offset >= -kFarCellsF ? offset : -kFarCellsF;  // also NaN
   offset = offset > kFarCellsF ? kFarCellsF : offset;
-  const float f = floor_by_rounding(offset);
+  // (AVX2 and AVX-512 round in one instruction; the baseline's SSE2 cannot)
+  float f;
+  if constexpr (Width > 4) {
+    f = __builtin_floorf(offset);
+  } else {
+    f = floor_by_rounding(offset);
+  }
   const std::int32_t k = base + static_cast<std::int32_t>(f);
   index = k < nodes - 2 ? k : nodes - 2;
   // Across the last cell: 1 on the last node, more beyond it.
@@ -326,13 +333,14 @@ inline std::int32_t axis_cell(std::int32_t base, float offset, std::int32_t node
 // brought into [0, 360) degrees east of the grid's start in double
 // precision. A lane already there gets axis_cell()'s bits exactly (base +
 // offset, its floor and their difference are exact in double).
+template <int Width>
 inline std::int32_t axis_cell_wrapped(const Grid& g, std::int32_t base, float offset, std::int32_t& index,
                                       float& w) noexcept {
   offset = offset >= -kFarCellsF ? offset : -kFarCellsF;  // also NaN
   offset = offset > kFarCellsF ? kFarCellsF : offset;
   const double gx = wrap_cells(static_cast<double>(base) + static_cast<double>(offset), g.period_cells);
   const double bx = floor_by_rounding(gx);
-  return axis_cell(static_cast<std::int32_t>(bx), static_cast<float>(gx - bx), g.nx, index, w);
+  return axis_cell<Width>(static_cast<std::int32_t>(bx), static_cast<float>(gx - bx), g.nx, index, w);
 }
 
 // `value` where `keep`, else +0.0f, as bit operations: a select the compiler
@@ -359,11 +367,11 @@ template <bool Wrap, int Width>
     float fx, fy;
     std::int32_t in_x;
     if constexpr (Wrap) {
-      in_x = axis_cell_wrapped(local, o.i[l], px[l], i, fx);
+      in_x = axis_cell_wrapped<Width>(local, o.i[l], px[l], i, fx);
     } else {
-      in_x = axis_cell(o.i[l], px[l], local.nx, i, fx);
+      in_x = axis_cell<Width>(o.i[l], px[l], local.nx, i, fx);
     }
-    const std::int32_t inside = in_x & axis_cell(o.j[l], py[l], local.ny, j, fy);
+    const std::int32_t inside = in_x & axis_cell<Width>(o.j[l], py[l], local.ny, j, fy);
     i = inside ? i : 0;
     j = inside ? j : 0;
     // Unsigned 32-bit offsets: they widen to addresses without SSE4.1.
