@@ -70,10 +70,12 @@ bool any_waiting(const Fate* fate, std::int64_t n) noexcept {
   return waiting != 0;
 }
 
-// A batch's inputs from kLanes consecutive particles from `first`.
-void gather_run(const ParticleSet& p, std::int64_t first, lanes::Batch& b) noexcept {
+// A batch's positions from kLanes consecutive particles from `first`, and
+// their stream ids when the kernel is to draw walk deviates (`ids`).
+void gather_run(const ParticleSet& p, std::int64_t first, bool ids, lanes::Batch& b) noexcept {
   std::copy_n(p.lon.data() + first, kLanes, b.lon0);
   std::copy_n(p.lat.data() + first, kLanes, b.lat0);
+  if (!ids) return;
   std::copy_n(p.source.data() + first, kLanes, b.source);
   std::copy_n(p.index.data() + first, kLanes, b.particle);
 }
@@ -137,9 +139,11 @@ std::uint64_t end_plain(ParticleSet& p, const std::int64_t* idx, int m, bool run
     Fate* __restrict fate = p.fate.data() + first;
     for (int l = 0; l < kLanes; ++l) {
       weight[l] *= survive;
-      const bool dies = age1[l] >= max_age_s;
-      fate[l] = dies ? Fate::died : Fate::drifting;
-      old += dies ? 1u : 0u;
+      old += age1[l] >= max_age_s ? 1u : 0u;
+    }
+    // Fates change only when some die (rarely): no stores otherwise.
+    if (old != 0) {
+      for (int l = 0; l < kLanes; ++l) fate[l] = age1[l] >= max_age_s ? Fate::died : Fate::drifting;
     }
     return old;
   }
@@ -447,20 +451,27 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         const bool run = m == kLanes && idx[kLanes - 1] - idx[0] == kLanes - 1;
 
         lanes::Batch b;
+        b.walk_cached = kept;
+        if (any_fresh) {
+          for (int l = 0; l < m; ++l) b.walk_cached = b.walk_cached && !fresh[first + l];
+        }
+        // Stream ids only when the kernel draws deviates: half the steps
+        // read neither array.
+        const bool ids = walking && !b.walk_cached;
         if (run) {
-          gather_run(p, idx[0], b);
+          gather_run(p, idx[0], ids, b);
         } else {
           for (int l = 0; l < kLanes; ++l) {
             const std::int64_t i = idx[l];
             b.lon0[l] = p.lon[i];
             b.lat0[l] = p.lat[i];
-            b.source[l] = p.source[i];
-            b.particle[l] = p.index[i];
           }
-        }
-        b.walk_cached = kept;
-        if (any_fresh) {
-          for (int l = 0; l < m; ++l) b.walk_cached = b.walk_cached && !fresh[first + l];
+          if (ids) {
+            for (int l = 0; l < kLanes; ++l) {
+              b.source[l] = p.source[idx[l]];
+              b.particle[l] = p.index[idx[l]];
+            }
+          }
         }
         if (b.walk_cached) {
           if (run) {
