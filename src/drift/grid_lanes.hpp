@@ -72,8 +72,8 @@ struct Batch {
   alignas(64) double lon[kLanes];   // position at its end (written by the kernel)
   alignas(64) double lat[kLanes];
   alignas(64) double speed[kLanes];  // largest stage speed, m/s (written)
-  alignas(64) std::uint32_t source[kLanes];
-  alignas(64) std::uint32_t particle[kLanes];
+  alignas(64) std::uint32_t source[kLanes];    // stream ids: read only when the
+  alignas(64) std::uint32_t particle[kLanes];  // kernel draws walk deviates
   alignas(64) std::int32_t where[kLanes];  // Where (written)
   // The random walk's deviates (CounterRandom::walk_normal2). With
   // `walk_cached` (an odd step whose pair the even step kept) they are this

@@ -93,11 +93,13 @@ struct OpenWater {
   int reef_at(double, double) const noexcept { return -1; }
 };
 
-// Whether end_step() is sure to leave every lane of a full batch drifting or
-// dead of old age: each ended in water (neither on land nor off the grid)
-// where no reef can take it: no reef near its node, or not competent at the
+// Whether end_step() is sure to leave every lane of a batch drifting or dead
+// of old age: each ended in water (neither on land nor off the grid) where
+// no reef can take it: no reef near its node, or not competent at the
 // step's end (`age1` the lanes' ages then, with no temperature or food
-// effects). A vector test over the whole batch: most batches pass it.
+// effects; the test is LarvalClock::competent's complement, written with
+// `|` so the loop vectorises). A vector test over the whole batch: most
+// batches pass it.
 bool plain_ends(const lanes::Batch& b, const double* age1, const LarvalClock& clock) noexcept {
   const double settle_from = clock.precompetent_s(), settle_to = clock.max_age_s();
   unsigned other = 0;
