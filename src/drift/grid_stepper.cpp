@@ -56,18 +56,11 @@ struct SlicedScalars {
   }
 };
 
-// Whether every one of n fates is `drifting` (a loop the compiler vectorises).
-bool all_drifting(const Fate* fate, std::int64_t n) noexcept {
-  unsigned other = 0;
-  for (std::int64_t i = 0; i < n; ++i) other |= static_cast<unsigned>(fate[i] != Fate::drifting);
-  return other == 0;
-}
-
-// Whether any of n fates is `waiting` (not released yet).
-bool any_waiting(const Fate* fate, std::int64_t n) noexcept {
-  unsigned waiting = 0;
-  for (std::int64_t i = 0; i < n; ++i) waiting |= static_cast<unsigned>(fate[i] == Fate::waiting);
-  return waiting != 0;
+// How many of n fates are `which` (a loop the compiler vectorises).
+std::int64_t count_of(const Fate* fate, std::int64_t n, Fate which) noexcept {
+  std::int64_t count = 0;
+  for (std::int64_t i = 0; i < n; ++i) count += fate[i] == which ? 1 : 0;
+  return count;
 }
 
 // A batch's positions from kLanes consecutive particles from `first`, and
@@ -416,10 +409,11 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
       bool any_fresh = false;
       const std::int64_t chunk_begin = chunk * kChunk;
       const std::int64_t chunk_end = std::min(n, chunk_begin + kChunk);
-      if (all_drifting(p.fate.data() + chunk_begin, chunk_end - chunk_begin)) {
+      const Fate* chunk_fate = p.fate.data() + chunk_begin;
+      if (count_of(chunk_fate, chunk_end - chunk_begin, Fate::drifting) == chunk_end - chunk_begin) {
         // The common case between releases and the first settlements.
         for (std::int64_t i = chunk_begin; i < chunk_end; ++i) drifting[count++] = i;
-      } else if (!any_waiting(p.fate.data() + chunk_begin, chunk_end - chunk_begin)) {
+      } else if (count_of(chunk_fate, chunk_end - chunk_begin, Fate::waiting) == 0) {
         // Settled, dead or lost larvae here and there, none to release: the
         // drifting ones listed without branches (fresh[] stays unread).
         for (std::int64_t i = chunk_begin; i < chunk_end; ++i) {
