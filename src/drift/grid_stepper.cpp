@@ -63,22 +63,45 @@ std::int64_t count_of(const Fate* fate, std::int64_t n, Fate which) noexcept {
   return count;
 }
 
-// A batch's positions from kLanes consecutive particles from `first`, and
-// their stream ids when the kernel is to draw walk deviates (`ids`).
-void gather_run(const ParticleSet& p, std::int64_t first, bool ids, lanes::Batch& b) noexcept {
-  std::copy_n(p.lon.data() + first, kLanes, b.lon0);
-  std::copy_n(p.lat.data() + first, kLanes, b.lat0);
-  if (!ids) return;
-  std::copy_n(p.source.data() + first, kLanes, b.source);
-  std::copy_n(p.index.data() + first, kLanes, b.particle);
+// A batch's inputs from the particles `idx` (kLanes, spare lanes repeating
+// lane 0): positions; stream ids when the kernel is to draw walk deviates
+// (`ids`); the kept deviates (pairs in `walk_next`) when b.walk_cached.
+// `run`: the particles are neighbours in the array, so contiguous copies
+// (vector loads) fetch the same values as the indexed loops.
+void load_batch(const ParticleSet& p, const float* walk_next, const std::int64_t* idx, bool run, bool ids,
+                lanes::Batch& b) noexcept {
+  if (run) {
+    const std::int64_t first = idx[0];
+    std::copy_n(p.lon.data() + first, kLanes, b.lon0);
+    std::copy_n(p.lat.data() + first, kLanes, b.lat0);
+    if (ids) {
+      std::copy_n(p.source.data() + first, kLanes, b.source);
+      std::copy_n(p.index.data() + first, kLanes, b.particle);
+    }
+    if (b.walk_cached) {
+      const float* __restrict pairs = walk_next + 2 * first;
+      for (int l = 0; l < kLanes; ++l) b.walk0[l] = pairs[2 * l], b.walk1[l] = pairs[2 * l + 1];
+    }
+    return;
+  }
+  for (int l = 0; l < kLanes; ++l) b.lon0[l] = p.lon[idx[l]], b.lat0[l] = p.lat[idx[l]];
+  if (ids) {
+    for (int l = 0; l < kLanes; ++l) b.source[l] = p.source[idx[l]], b.particle[l] = p.index[idx[l]];
+  }
+  if (b.walk_cached) {
+    for (int l = 0; l < kLanes; ++l) b.walk0[l] = walk_next[2 * idx[l]], b.walk1[l] = walk_next[2 * idx[l] + 1];
+  }
 }
 
-// Their kept walk deviates (pairs, interleaved).
-void walk_run(const float* __restrict pairs, lanes::Batch& b) noexcept {
-  for (int l = 0; l < kLanes; ++l) {
-    b.walk0[l] = pairs[2 * l];
-    b.walk1[l] = pairs[2 * l + 1];
+// The next (odd) step's walk deviates the kernel left in the batch, kept
+// for its m particles `idx` (contiguously when `run`).
+void keep_deviates(const lanes::Batch& b, const std::int64_t* idx, int m, bool run, float* walk_next) noexcept {
+  if (run) {
+    float* __restrict pairs = walk_next + 2 * idx[0];
+    for (int l = 0; l < kLanes; ++l) pairs[2 * l] = b.walk0[l], pairs[2 * l + 1] = b.walk1[l];
+    return;
   }
+  for (int l = 0; l < m; ++l) walk_next[2 * idx[l]] = b.walk0[l], walk_next[2 * idx[l] + 1] = b.walk1[l];
 }
 
 // A reef look-up over open water.
@@ -453,45 +476,11 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
         }
         // Stream ids only when the kernel draws deviates: half the steps
         // read neither array.
-        const bool ids = walking && !b.walk_cached;
-        if (run) {
-          gather_run(p, idx[0], ids, b);
-        } else {
-          for (int l = 0; l < kLanes; ++l) {
-            const std::int64_t i = idx[l];
-            b.lon0[l] = p.lon[i];
-            b.lat0[l] = p.lat[i];
-          }
-          if (ids) {
-            for (int l = 0; l < kLanes; ++l) {
-              b.source[l] = p.source[idx[l]];
-              b.particle[l] = p.index[idx[l]];
-            }
-          }
-        }
-        if (b.walk_cached) {
-          if (run) {
-            walk_run(walk_next + 2 * idx[0], b);
-          } else {
-            for (int l = 0; l < kLanes; ++l) {
-              const std::int64_t i = idx[l];
-              b.walk0[l] = walk_next[2 * i];
-              b.walk1[l] = walk_next[2 * i + 1];
-            }
-          }
-        }
+        load_batch(p, walk_next, idx, run, walking && !b.walk_cached, b);
         advance(g, plan, b);
-        if (keep_next) {
-          if (run) {
-            float* __restrict pairs = walk_next + 2 * idx[0];
-            for (int l = 0; l < kLanes; ++l) pairs[2 * l] = b.walk0[l], pairs[2 * l + 1] = b.walk1[l];
-          } else {
-            for (int l = 0; l < m; ++l) {
-              walk_next[2 * idx[l]] = b.walk0[l];
-              walk_next[2 * idx[l] + 1] = b.walk1[l];
-            }
-          }
-        }
+        if (keep_next) keep_deviates(b, idx, m, run, walk_next);
+        // (spare lanes repeat lane 0: the same maximum)
+        max_speed = batch_max(b.speed, max_speed);
 
         // What the batch's larvae met (conditions_at()) first, where each
         // ends the step, held or not: short loops, so the exponentials and
@@ -525,13 +514,11 @@ StepTally GridStepper::step(ParticleSet& p, std::uint32_t step, const StepSettin
             for (int l = 0; l < kLanes; ++l) age1[l] = t1 - p.release_s[idx[l]];
           }
           if (plain_ends(b, age1, clock)) {
-            max_speed = batch_max(b.speed, max_speed);
             died += end_plain(p, idx, m, run, b, age1, constant_survive, clock.max_age_s());
             continue;
           }
         }
         for (int l = 0; l < m; ++l) {
-          max_speed = b.speed[l] > max_speed ? b.speed[l] : max_speed;
           const std::int64_t i = idx[l];
           double lon = b.lon[l], lat = b.lat[l];
           if (b.where[l] == lanes::kOutside) {
